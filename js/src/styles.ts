@@ -112,6 +112,8 @@ export const CSS = `
   top: 0;
   z-index: 2;
   background: var(--sl-bg-alt);
+  font-family: inherit;
+  font-size: inherit;
   font-weight: 600;
   user-select: none;
 }
