@@ -1,0 +1,496 @@
+"""Outlier rules: classical and robust z-scores, Tukey and skew-adjusted fences, Grubbs and
+the generalized ESD test, and :func:`flag`, which applies any of them by name."""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+from typing import Any
+
+import numpy as np
+import pandas as pd
+from scipy import stats as sps
+
+from ._input import Column, check_alpha, check_positive, column, like_input, require, scale_exponent
+from .location import sorted_median, sorted_quantile
+from .medcouple import medcouple_sorted
+
+#: Phi^{-1}(3/4) = 0.6745: the robust z-score constant of Iglewicz & Hoaglin (1993).
+ROBUST_Z = 0.6744897501960817
+
+
+# --- z-scores -------------------------------------------------------------------------------
+
+def _center_scale_z(values: np.ndarray) -> tuple[float, float]:
+    e = scale_exponent(values)
+    scaled = np.ldexp(values, -e)
+    mean = scaled.mean()
+    sd = scaled.std(ddof=1)
+    return float(np.ldexp(mean, e)), float(np.ldexp(sd, e))
+
+
+def zscore_center_scale(values: np.ndarray) -> tuple[float, float]:
+    """Mean and SD (ddof = 1) of present values, refusing too few or constant values."""
+    require(values.size, 3, "the z-score rule")
+    mean, sd = _center_scale_z(values)
+    if not sd > 0:
+        raise ValueError("the z-score rule cannot scale these data: all values are equal "
+                         "(SD is zero)")
+    return mean, sd
+
+
+def zscores(x: Any) -> np.ndarray | pd.Series:
+    """Classical z-scores (x - mean) / SD with the sample SD (ddof = 1); NaN stays NaN.
+
+    Common practice flags |z| > 3. Returns a Series with the input's index for a Series input.
+    """
+    col = column(x)
+    mean, sd = zscore_center_scale(col.clean)
+    return like_input((col.values - mean) / sd, col)
+
+
+def robust_center_scale(s: np.ndarray) -> tuple[float, float]:
+    """Median and MAD of ascending values *s*, refusing a zero MAD."""
+    require(s.size, 3, "the robust z-score rule")
+    med = sorted_median(s)
+    mad = float(np.median(np.abs(s - med)))
+    if not mad > 0:
+        raise ValueError("the robust z-score rule cannot scale these data: the MAD is zero "
+                         "(at least half the values are equal); try the fences or the "
+                         "classical z-score")
+    return med, mad
+
+
+def robust_zscores(x: Any) -> np.ndarray | pd.Series:
+    """Robust (modified) z-scores M = 0.6745 (x - median) / MAD of Iglewicz & Hoaglin [1]_.
+
+    MAD is the median absolute deviation from the median. The authors recommend flagging
+    |M| > 3.5. NaN stays NaN; a Series input gives a Series with its index.
+
+    References
+    ----------
+    .. [1] B. Iglewicz and D. C. Hoaglin, How to Detect and Handle Outliers, ASQC Basic
+       References in Quality Control 16, 1993.
+    """
+    col = column(x)
+    med, mad = robust_center_scale(np.sort(col.clean))
+    return like_input(ROBUST_Z * (col.values - med) / mad, col)
+
+
+# --- fences ---------------------------------------------------------------------------------
+
+@dataclass(frozen=True)
+class Fences:
+    """Tukey's fences: lower = q1 - k·iqr, upper = q3 + k·iqr (type-7 quartiles)."""
+
+    q1: float
+    q3: float
+    iqr: float
+    lower: float
+    upper: float
+    k: float
+
+
+@dataclass(frozen=True)
+class AdjustedFences:
+    """Skew-adjusted fences of Hubert & Vandervieren (2008), with the medcouple MC:
+    MC >= 0: [q1 - k e^{-4 MC} iqr, q3 + k e^{3 MC} iqr];
+    MC < 0:  [q1 - k e^{-3 MC} iqr, q3 + k e^{4 MC} iqr]."""
+
+    q1: float
+    q3: float
+    iqr: float
+    lower: float
+    upper: float
+    medcouple: float
+    k: float
+
+
+def sorted_fences(s: np.ndarray, k: float = 1.5) -> Fences:
+    """:func:`fences` for ascending values with no missing values."""
+    k = check_positive(k, "k")
+    require(s.size, 4, "the fences")
+    q1 = sorted_quantile(s, 0.25)
+    q3 = sorted_quantile(s, 0.75)
+    iqr = q3 - q1
+    if not iqr > 0:
+        raise ValueError("the fences cannot be placed: the interquartile range is zero "
+                         "(at least half the values are equal); try the classical z-score")
+    return Fences(q1=q1, q3=q3, iqr=iqr, lower=q1 - k * iqr, upper=q3 + k * iqr, k=k)
+
+
+def fences(x: Any, k: float = 1.5) -> Fences:
+    """Tukey's fences [1]_ at k interquartile ranges beyond the quartiles.
+
+    Common practice: k = 1.5 marks "outside" values and k = 3 "far out" values. Quartiles are
+    numpy's default (type 7). A value is outside when x < lower or x > upper.
+
+    References
+    ----------
+    .. [1] J. W. Tukey, Exploratory Data Analysis, Addison-Wesley, 1977.
+    """
+    return sorted_fences(np.sort(column(x).clean), k)
+
+
+def sorted_adjusted_fences(s: np.ndarray, k: float = 1.5) -> AdjustedFences:
+    """:func:`adjusted_fences` for ascending values with no missing values."""
+    base = sorted_fences(s, k)
+    mc = medcouple_sorted(s)
+    a, b = (-4.0, 3.0) if mc >= 0 else (-3.0, 4.0)
+    return AdjustedFences(q1=base.q1, q3=base.q3, iqr=base.iqr,
+                          lower=base.q1 - base.k * np.exp(a * mc) * base.iqr,
+                          upper=base.q3 + base.k * np.exp(b * mc) * base.iqr,
+                          medcouple=mc, k=base.k)
+
+
+def adjusted_fences(x: Any, k: float = 1.5) -> AdjustedFences:
+    """Fences adjusted for skewness with the medcouple, for the skewed box plot [1]_.
+
+    References
+    ----------
+    .. [1] M. Hubert and E. Vandervieren, "An adjusted boxplot for skewed distributions",
+       Computational Statistics & Data Analysis 52, 5186–5201, 2008, eq. (3.1)–(3.2).
+    """
+    return sorted_adjusted_fences(np.sort(column(x).clean), k)
+
+
+# --- Grubbs and generalized ESD ---------------------------------------------------------------
+
+def grubbs_critical(n: int, alpha: float) -> float:
+    """Two-sided Grubbs critical value (n-1)/sqrt(n) · sqrt(t² / (n - 2 + t²)),
+    t the upper alpha/(2n) point of Student's t with n - 2 degrees of freedom (NIST/SEMATECH
+    e-Handbook of Statistical Methods, section 1.3.5.17.1)."""
+    t = sps.t.isf(alpha / (2 * n), n - 2)
+    return float((n - 1) / np.sqrt(n) * np.sqrt(t * t / (n - 2 + t * t)))
+
+
+@dataclass(frozen=True)
+class Grubbs:
+    """Result of the two-sided Grubbs test for one outlier.
+
+    statistic : G = max |x - mean| / SD; critical_value : see :func:`grubbs_critical`;
+    mask : True at the most extreme value when G > critical_value; position : its position.
+    """
+
+    statistic: float
+    critical_value: float
+    mask: np.ndarray | pd.Series
+    position: int
+    alpha: float
+
+    @property
+    def outlier(self) -> bool:
+        return bool(self.statistic > self.critical_value)
+
+
+def grubbs(x: Any, alpha: float = 0.05) -> Grubbs:
+    """Grubbs' test [1]_ for a single outlier, two-sided, at level *alpha*.
+
+    References
+    ----------
+    .. [1] F. E. Grubbs, "Procedures for detecting outlying observations in samples",
+       Technometrics 11(1), 1–21, 1969; NIST/SEMATECH e-Handbook, 1.3.5.17.1.
+    """
+    alpha = check_alpha(alpha)
+    col = column(x)
+    present = np.flatnonzero(col.present)
+    values = col.values[present]
+    require(values.size, 3, "Grubbs' test")
+    mean, sd = zscore_center_scale(values)
+    dev = np.abs(values - mean)
+    i = int(np.argmax(dev))
+    g = float(dev[i] / sd)
+    crit = grubbs_critical(values.size, alpha)
+    mask = np.zeros(col.values.size, dtype=bool)
+    mask[present[i]] = g > crit
+    return Grubbs(statistic=g, critical_value=crit, mask=like_input(mask, col),
+                  position=int(present[i]), alpha=alpha)
+
+
+def gesd_critical(n: int, max_outliers: int, alpha: float) -> np.ndarray:
+    """Rosner's critical values λ_i = (n-i) t_{p, n-i-1} / sqrt((n-i-1+t²)(n-i+1)),
+    p = 1 - alpha / (2(n-i+1)), i = 1..r (NIST/SEMATECH e-Handbook, 1.3.5.17.3)."""
+    i = np.arange(1, max_outliers + 1, dtype=float)
+    p = 1 - alpha / (2 * (n - i + 1))
+    t = sps.t.ppf(p, n - i - 1)
+    return (n - i) * t / np.sqrt((n - i - 1 + t * t) * (n - i + 1))
+
+
+@dataclass(frozen=True)
+class GESD:
+    """Result of the generalized ESD test.
+
+    statistics : R_1..R_r, the largest |x - mean|/SD after removing the i-1 values before;
+    critical_values : λ_1..λ_r; n_outliers : the largest i with R_i > λ_i (0 if none);
+    mask : True at the n_outliers values removed first; removed : their positions, in order.
+    """
+
+    statistics: np.ndarray
+    critical_values: np.ndarray
+    n_outliers: int
+    mask: np.ndarray | pd.Series
+    removed: np.ndarray
+    alpha: float = field(default=0.05)
+
+
+def sorted_gesd_steps(s: np.ndarray, max_outliers: int) -> tuple[np.ndarray, np.ndarray]:
+    """Removal order and R statistics of the generalized ESD procedure on ascending *s*.
+
+    The most extreme value about the current mean is always the current smallest or largest,
+    so the procedure walks inwards from both ends with running sums: O(r) after the sort.
+    Returns (indices into s in removal order, R statistics).
+    """
+    n = s.size
+    e = scale_exponent(s)
+    center = float(np.ldexp(s[n // 2], -e))
+    y = np.ldexp(s, -e) - center
+    total = float(y.sum())
+    squares = float(y @ y)
+    lo, hi = 0, n - 1
+    order = np.empty(max_outliers, dtype=np.int64)
+    stats_ = np.empty(max_outliers)
+    for step in range(max_outliers):
+        m = n - step
+        mean = total / m
+        var = max((squares - total * mean) / (m - 1), 0.0)
+        sd = np.sqrt(var)
+        d_lo, d_hi = mean - y[lo], y[hi] - mean
+        pick = hi if d_hi >= d_lo else lo
+        stats_[step] = (max(d_lo, d_hi) / sd) if sd > 0 else 0.0
+        order[step] = pick
+        total -= y[pick]
+        squares -= y[pick] * y[pick]
+        if pick == hi:
+            hi -= 1
+        else:
+            lo += 1
+    return order, stats_
+
+
+def gesd(x: Any, max_outliers: int, alpha: float = 0.05) -> GESD:
+    """Rosner's generalized extreme Studentized deviate test [1]_ for up to *max_outliers*.
+
+    R_i = max |x - mean| / SD over the values left after i - 1 removals; the number of outliers
+    is the largest i with R_i > λ_i (:func:`gesd_critical`). Runs in O(n log n + r).
+
+    References
+    ----------
+    .. [1] B. Rosner, "Percentage points for a generalized ESD many-outlier procedure",
+       Technometrics 25(2), 165–172, 1983; NIST/SEMATECH e-Handbook, section 1.3.5.17.3.
+    """
+    alpha = check_alpha(alpha)
+    col = column(x)
+    present = np.flatnonzero(col.present)
+    values = col.values[present]
+    n = values.size
+    r = _check_max_outliers(max_outliers, n)
+    idx = np.argsort(values, kind="stable")
+    s = values[idx]
+    zscore_center_scale(s)  # refuses constant data
+    order, stats_ = sorted_gesd_steps(s, r)
+    crit = gesd_critical(n, r, alpha)
+    beyond = np.flatnonzero(stats_ > crit)
+    n_out = int(beyond[-1] + 1) if beyond.size else 0
+    removed = present[idx[order[:n_out]]]
+    mask = np.zeros(col.values.size, dtype=bool)
+    mask[removed] = True
+    return GESD(statistics=stats_, critical_values=crit, n_outliers=n_out,
+                mask=like_input(mask, col), removed=removed, alpha=alpha)
+
+
+def _check_max_outliers(max_outliers: Any, n: int) -> int:
+    require(n, 3, "the generalized ESD test")
+    if isinstance(max_outliers, (bool, np.bool_)) or not isinstance(
+            max_outliers, (int, np.integer)):
+        raise TypeError(f"max_outliers must be a whole number, got {max_outliers!r}")
+    r = int(max_outliers)
+    if not 1 <= r <= n - 2:
+        raise ValueError(f"max_outliers must be between 1 and n - 2 = {n - 2} for "
+                         f"{n} values, got {r}")
+    return r
+
+
+# --- one entry point ------------------------------------------------------------------------
+
+RULES: dict[str, dict[str, float]] = {
+    "zscore": {"threshold": 3.0},
+    "robust_z": {"threshold": 3.5},
+    "fences": {"k": 1.5},
+    "adjusted_fences": {"k": 1.5},
+    "grubbs": {"alpha": 0.05},
+    "gesd": {"alpha": 0.05, "max_outliers": 10},
+}
+
+
+@dataclass(frozen=True)
+class Flags:
+    """What a rule says about each value.
+
+    mask : True where the value is outlying (strictly outside [lower, upper], or rejected by
+        the test); NaN inputs are never flagged. A Series with the input's index for a Series.
+    scores : the rule's score per value (z, robust z, or distance beyond the box in units of
+        the fence width for the fences), NaN where missing.
+    lower, upper : the bounds on the data's scale (for the tests: the most extreme values
+        the test kept).
+    reason : a short statement of the rule, e.g. ``"|z| > 3"``.
+    rule, params : the rule's name and the parameters used.
+    """
+
+    mask: np.ndarray | pd.Series
+    scores: np.ndarray | pd.Series
+    lower: float
+    upper: float
+    reason: str
+    rule: str
+    params: dict[str, float]
+
+
+def check_rule(rule: str, params: dict[str, Any]) -> dict[str, Any]:
+    """Validate a rule name and its parameters; return them with defaults filled in."""
+    if rule not in RULES:
+        raise ValueError(f"unknown rule {rule!r}; choose one of {sorted(RULES)}")
+    unknown = set(params) - set(RULES[rule])
+    if unknown:
+        raise TypeError(f"rule {rule!r} takes {sorted(RULES[rule])}, not {sorted(unknown)}")
+    out: dict[str, Any] = {**RULES[rule], **params}
+    if "threshold" in out:
+        out["threshold"] = check_positive(out["threshold"], "threshold")
+    if "k" in out:
+        out["k"] = check_positive(out["k"], "k")
+    if "alpha" in out:
+        out["alpha"] = check_alpha(out["alpha"])
+    if "max_outliers" in out:
+        m = out["max_outliers"]
+        if isinstance(m, float) and m.is_integer():
+            m = int(m)
+        if isinstance(m, (bool, np.bool_)) or not isinstance(m, (int, np.integer)):
+            raise TypeError(f"max_outliers must be a whole number, got {m!r}")
+        if m < 1:
+            raise ValueError(f"max_outliers must be at least 1, got {m}")
+        out["max_outliers"] = int(m)
+    return out
+
+
+@dataclass(frozen=True)
+class Bounds:
+    """A rule's result on ascending values: bounds, and the score as center and scale."""
+
+    lower: float
+    upper: float
+    flagged: np.ndarray  # indices into the ascending values that the rule flags
+    center: float
+    scale_lo: float
+    scale_hi: float
+    info: dict[str, float]
+
+
+def sorted_bounds(s: np.ndarray, rule: str, params: dict[str, Any]) -> Bounds:
+    """Apply *rule* to ascending values with no missing values (params already checked)."""
+    n = s.size
+    if rule in ("zscore", "robust_z"):
+        t = params["threshold"]
+        if rule == "zscore":
+            center, sd = zscore_center_scale(s)
+            scale = sd
+        else:
+            center, mad = robust_center_scale(s)
+            scale = mad / ROBUST_Z
+        lower, upper = center - t * scale, center + t * scale
+        return _by_bounds(s, lower, upper, center, scale, scale, {})
+    if rule in ("fences", "adjusted_fences"):
+        f = sorted_fences(s, params["k"]) if rule == "fences" else sorted_adjusted_fences(
+            s, params["k"])
+        k = params["k"]
+        info = {"q1": f.q1, "q3": f.q3, "iqr": f.iqr}
+        if isinstance(f, AdjustedFences):
+            info["medcouple"] = f.medcouple
+        b = _by_bounds(s, f.lower, f.upper, 0.0, (f.q1 - f.lower) / k, (f.upper - f.q3) / k, info)
+        return Bounds(b.lower, b.upper, b.flagged, 0.0, b.scale_lo, b.scale_hi,
+                      {**info, "box_lo": f.q1, "box_hi": f.q3})
+    if rule == "grubbs":
+        require(n, 3, "Grubbs' test")
+        center, sd = zscore_center_scale(s)
+        i = n - 1 if s[-1] - center >= center - s[0] else 0
+        g = abs(s[i] - center) / sd
+        crit = grubbs_critical(n, params["alpha"])
+        flagged = np.array([i] if g > crit else [], dtype=np.int64)
+        return _kept_extremes(s, flagged, center, sd, {"statistic": g, "critical_value": crit})
+    # gesd
+    r = _check_max_outliers(params["max_outliers"], n)
+    center, sd = zscore_center_scale(s)
+    order, stats_ = sorted_gesd_steps(s, r)
+    crit = gesd_critical(n, r, params["alpha"])
+    beyond = np.flatnonzero(stats_ > crit)
+    n_out = int(beyond[-1] + 1) if beyond.size else 0
+    return _kept_extremes(s, np.sort(order[:n_out]), center, sd, {"n_outliers": float(n_out)})
+
+
+def _by_bounds(s: np.ndarray, lower: float, upper: float, center: float, scale_lo: float,
+               scale_hi: float, info: dict[str, float]) -> Bounds:
+    a = int(np.searchsorted(s, lower, side="left"))
+    b = int(np.searchsorted(s, upper, side="right"))
+    flagged = np.concatenate([np.arange(a), np.arange(b, s.size)]).astype(np.int64)
+    return Bounds(float(lower), float(upper), flagged, center, scale_lo, scale_hi, info)
+
+
+def _kept_extremes(s: np.ndarray, flagged: np.ndarray, center: float, sd: float,
+                   info: dict[str, float]) -> Bounds:
+    keep = np.ones(s.size, dtype=bool)
+    keep[flagged] = False
+    kept = s[keep]
+    return Bounds(float(kept[0]), float(kept[-1]), flagged, center, sd, sd, info)
+
+
+def scores_for(values: np.ndarray, rule: str, b: Bounds) -> np.ndarray:
+    """Score of each value under a rule's result (vectorised; NaN stays NaN)."""
+    if rule in ("fences", "adjusted_fences"):
+        lo_box, hi_box = b.info["box_lo"], b.info["box_hi"]
+        out = np.zeros_like(values)
+        out[values < lo_box] = ((values - lo_box) / b.scale_lo)[values < lo_box]
+        out[values > hi_box] = ((values - hi_box) / b.scale_hi)[values > hi_box]
+        out[np.isnan(values)] = np.nan
+        return out
+    return (values - b.center) / b.scale_lo
+
+
+def describe_rule(rule: str, params: dict[str, Any]) -> str:
+    """Plain statement of a rule, e.g. ``"|z| > 3"`` or ``"Tukey fences, k = 1.5"``."""
+    if rule == "zscore":
+        return f"|z| > {params['threshold']:g}"
+    if rule == "robust_z":
+        return f"|robust z| > {params['threshold']:g}"
+    if rule == "fences":
+        return f"Tukey fences, k = {params['k']:g}"
+    if rule == "adjusted_fences":
+        return f"skew-adjusted fences, k = {params['k']:g}"
+    if rule == "grubbs":
+        return f"Grubbs' test, alpha = {params['alpha']:g}"
+    return (f"generalized ESD, alpha = {params['alpha']:g}, "
+            f"up to {params['max_outliers']} outliers")
+
+
+def flag(x: Any, rule: str = "fences", **params: Any) -> Flags:
+    """Flag outlying values of *x* with a rule chosen by name.
+
+    Rules and defaults: ``"zscore"`` (threshold = 3, common practice), ``"robust_z"``
+    (threshold = 3.5, Iglewicz & Hoaglin), ``"fences"`` (k = 1.5, Tukey), ``"adjusted_fences"``
+    (k = 1.5, Hubert & Vandervieren), ``"grubbs"`` (alpha = 0.05), ``"gesd"`` (alpha = 0.05,
+    max_outliers = 10). A value is flagged when it lies strictly outside its bounds. NaN / NA
+    values are never flagged.
+
+    Examples
+    --------
+    >>> import strayline
+    >>> strayline.flag([9.8, 10.1, 10.0, 9.9, 10.2, 10.0, 14.0], "fences").mask.tolist()
+    [False, False, False, False, False, False, True]
+    """
+    p = check_rule(rule, params)
+    col: Column = column(x)
+    present = np.flatnonzero(col.present)
+    values = col.values[present]
+    idx = np.argsort(values, kind="stable")
+    b = sorted_bounds(values[idx], rule, p)
+    mask = np.zeros(col.values.size, dtype=bool)
+    mask[present[idx[b.flagged]]] = True
+    scores = scores_for(col.values, rule, b)
+    return Flags(mask=like_input(mask, col), scores=like_input(scores, col), lower=b.lower,
+                 upper=b.upper, reason=describe_rule(rule, p), rule=rule, params=p)
