@@ -6,7 +6,20 @@ your own procedures.
 
 from . import stats
 from ._version import __version__
+from .evaluate import Settings
+from .ledger import Ledger, LedgerError, LedgerWarning
+from .screen import Screen
 from .stats import *  # noqa: F403
 from .stats import __all__ as _stats_all
+from .view.writeback import write_mask
 
-__all__ = ["__version__", "stats", *_stats_all]
+
+def panel(*args, **kwargs):  # noqa: ANN002, ANN003, ANN201
+    """Show the screening panel for a DataFrame; see :class:`strayline.view.panel.Panel`."""
+    from .view.panel import panel as _panel
+
+    return _panel(*args, **kwargs)
+
+
+__all__ = ["Ledger", "LedgerError", "LedgerWarning", "Screen", "Settings", "__version__",
+           "panel", "stats", "write_mask", *_stats_all]

@@ -1,0 +1,634 @@
+"""The screening model: one DataFrame (never modified), its screened columns, their settings,
+the hand decisions, and the mask that follows from them."""
+
+from __future__ import annotations
+
+from collections.abc import Hashable, Iterable, Sequence
+from dataclasses import dataclass
+from typing import TYPE_CHECKING, Any
+
+import numpy as np
+import pandas as pd
+
+from . import evaluate as ev
+from .stats.transform import DECREASING, TRANSFORMS, fit, inverse
+from .stats._input import to_float
+from .stats.location import moments, sorted_median, sorted_quantile
+from .stats.normality import Normality, normality_sorted
+from .stats.qq import fit_line, normal_quantiles
+
+if TYPE_CHECKING:
+    from .ledger import Ledger
+
+#: Row states, by code. A row is "kept" when the user cleared a flag or a mark by hand.
+PLAIN, FLAGGED, MARKED, KEPT, MISSING = 0, 1, 2, 3, 4
+STATE_NAMES = ("", "flagged", "marked", "kept", "missing")
+MODES = ("replace", "add", "remove")
+
+
+@dataclass(frozen=True)
+class TransformComparison:
+    """How close one transformation brings a column to normal: skewness G1 and the PPCC of
+    the transformed values, λ where one is fitted, or why it does not apply."""
+
+    kind: str
+    lmbda: float | None
+    skewness: float
+    ppcc: float
+    error: str = ""
+
+
+@dataclass(frozen=True)
+class Summary:
+    """Numbers for one column on its current screening scale."""
+
+    column: Hashable
+    scale: str
+    n: int
+    missing: int
+    mean: float
+    sd: float
+    median: float
+    mad: float
+    q1: float
+    q3: float
+    iqr: float
+    skewness: float
+    excess_kurtosis: float
+    normality: Normality | None
+    comparison: tuple[TransformComparison, ...]
+    closest_to_normal: str
+    error: str = ""
+
+
+@dataclass
+class _Change:
+    column: Hashable
+    positions: np.ndarray
+    marked_before: np.ndarray
+    kept_before: np.ndarray
+    marked_after: np.ndarray
+    kept_after: np.ndarray
+
+
+@dataclass
+class _NoteChange:
+    positions: np.ndarray
+    before: list[str | None]
+    after: str | None
+
+
+def _numeric_columns(df: pd.DataFrame) -> list[Hashable]:
+    repeated = set(df.columns[df.columns.duplicated()])
+    return [name for name, dtype in df.dtypes.items()
+            if pd.api.types.is_numeric_dtype(dtype) and not pd.api.types.is_complex_dtype(dtype)
+            and not pd.api.types.is_bool_dtype(dtype) and name not in repeated]
+
+
+class Screen:
+    """Screen numeric columns of a DataFrame for outliers.
+
+    Parameters
+    ----------
+    df : the user's DataFrame. It is held, never modified and never copied wholesale.
+    columns : the columns to screen (a label or a list); default every numeric column.
+    group : a column whose groups are screened separately (batches, stations, instruments).
+
+    Notes
+    -----
+    Inside, rows are positions 0..n-1; labels appear only at the edge (``mark``, ``keep``,
+    ``clear``, ``mask``, ``rows``), so duplicate labels, MultiIndex and datetime indexes work.
+    A row's state in a column is *missing* (no value), *kept* (cleared by hand), *marked*
+    (chosen by hand), *flagged* (the rule says it is outlying) or plain, in that precedence.
+    ``mask = (flagged | marked) & ~kept`` in any screened column.
+    """
+
+    def __init__(self, df: pd.DataFrame, columns: Any = None, group: Hashable | None = None):
+        if not isinstance(df, pd.DataFrame):
+            raise TypeError(f"Screen needs a pandas DataFrame, got {type(df).__name__}; "
+                            "wrap a Series with s.to_frame()")
+        self._df = df
+        self._n = len(df)
+        if columns is None:
+            cols = _numeric_columns(df)
+            if not cols:
+                raise ValueError("the DataFrame has no numeric columns to screen; pass "
+                                 "columns=[...] naming them, or convert text with pd.to_numeric")
+        elif isinstance(columns, (list, tuple, pd.Index)) and not (
+                isinstance(columns, tuple) and columns in set(df.columns)):
+            cols = list(columns)
+        else:
+            cols = [columns]
+        if not cols:
+            raise ValueError("columns is empty: name at least one column to screen")
+        self._raw: dict[Hashable, np.ndarray] = {}
+        for c in cols:
+            self._check_label(c, "column")
+            self._raw[c] = to_float(df[c], name=c)
+            inf = np.isinf(self._raw[c])
+            if inf.any():
+                raise ValueError(f"column {c!r} holds {int(inf.sum())} infinite value(s); "
+                                 "replace them with NaN or a finite bound before screening")
+        self._columns: tuple[Hashable, ...] = tuple(dict.fromkeys(cols))
+        self._group_codes: np.ndarray | None = None
+        self._group_labels: list[Any] = []
+        self._group: Hashable | None = None
+        self._settings: dict[Hashable, ev.Settings] = {c: ev.Settings() for c in self._columns}
+        if group is not None:
+            self._set_group(group)
+            self._settings = {c: ev.Settings(group=group) for c in self._columns}
+        self._marked = {c: np.zeros(self._n, dtype=bool) for c in self._columns}
+        self._kept = {c: np.zeros(self._n, dtype=bool) for c in self._columns}
+        self._notes: dict[int, str] = {}
+        self._current: Hashable = self._columns[0]
+        self._prepared: dict[tuple[Hashable, str, float | None], ev.Prepared] = {}
+        self._evals: dict[Hashable, ev.Evaluation] = {}
+        self._contrib: dict[Hashable, np.ndarray] = {}
+        self._mask: np.ndarray | None = None
+        self._undo: list[_Change | _NoteChange] = []
+        self._redo: list[_Change | _NoteChange] = []
+        self._summaries: dict[tuple[Hashable, ev.Settings], Summary] = {}
+        self.version = 0
+
+    # --- edges: labels and columns ---------------------------------------------------------
+
+    def _check_label(self, c: Hashable, what: str) -> None:
+        if c not in self._df.columns:
+            raise KeyError(f"{what} {c!r} is not in the DataFrame; its columns are "
+                           f"{list(self._df.columns)[:20]}")
+        if int((self._df.columns == c).sum()) > 1:
+            raise ValueError(f"{what} {c!r} appears more than once in the DataFrame's columns; "
+                             "rename the duplicates (df.columns = [...]) before screening")
+
+    def _set_group(self, group: Hashable) -> None:
+        self._check_label(group, "group column")
+        codes, uniques = pd.factorize(self._df[group], sort=True, use_na_sentinel=True)
+        self._group_codes = codes.astype(np.int64)
+        self._group_labels = list(uniques)
+        self._group = group
+
+    @property
+    def frame(self) -> pd.DataFrame:
+        """The user's DataFrame, as given."""
+        return self._df
+
+    @property
+    def columns(self) -> tuple[Hashable, ...]:
+        return self._columns
+
+    @property
+    def column(self) -> Hashable:
+        """The column being looked at."""
+        return self._current
+
+    @column.setter
+    def column(self, c: Hashable) -> None:
+        self._col(c)
+        self._current = c
+
+    @property
+    def group(self) -> Hashable | None:
+        return self._group
+
+    def _col(self, c: Hashable | None) -> Hashable:
+        if c is None:
+            return self._current
+        if c not in self._settings:
+            raise KeyError(f"column {c!r} is not screened here; screened columns are "
+                           f"{list(self._columns)}")
+        return c
+
+    def positions_of(self, labels: Any) -> np.ndarray:
+        """Row positions of index labels (every row for a repeated label); a boolean mask
+        aligned to the frame is accepted too. Unknown labels raise a KeyError naming them."""
+        index = self._df.index
+        if isinstance(labels, pd.Series) and pd.api.types.is_bool_dtype(labels.dtype):
+            aligned = labels.reindex(index) if not labels.index.equals(index) else labels
+            return np.flatnonzero(aligned.fillna(False).to_numpy(dtype=bool))
+        if isinstance(labels, np.ndarray) and labels.dtype == bool:
+            if labels.size != self._n:
+                raise ValueError(f"a boolean selection needs {self._n} values, got {labels.size}")
+            return np.flatnonzero(labels)
+        if isinstance(index, pd.MultiIndex) and isinstance(labels, tuple):
+            labels = [labels]
+        elif isinstance(labels, (str, bytes)) or not isinstance(labels, Iterable):
+            labels = [labels]
+        labels = list(labels)
+        if not labels:
+            return np.empty(0, dtype=np.int64)
+        if isinstance(index, pd.MultiIndex):
+            wanted = pd.MultiIndex.from_tuples(labels, names=index.names)
+        else:
+            wanted = pd.Index(labels)
+        found = index.get_indexer_for(wanted)
+        if (found < 0).any():
+            missing = [lab for lab in labels if lab not in index]
+            raise KeyError(f"{len(missing)} label(s) are not in the index, e.g. {missing[:5]}")
+        return np.unique(found).astype(np.int64)
+
+    def labels_of(self, positions: Sequence[int] | np.ndarray) -> pd.Index:
+        return self._df.index[np.asarray(positions, dtype=np.int64)]
+
+    # --- settings and evaluation -------------------------------------------------------------
+
+    def settings(self, column: Hashable | None = None) -> ev.Settings:
+        return self._settings[self._col(column)]
+
+    def configure(self, column: Hashable | None = None, **changes: Any) -> ev.Evaluation:
+        """Change a column's transformation, λ, rule, rule parameters or group column, e.g.
+        ``screen.configure(transform="log", rule="fences", k=3)``. On an error nothing changes.
+        """
+        c = self._col(column)
+        old = self._settings[c]
+        new = old.update(**changes)
+        if new.group != self._group and new.group is not None:
+            self._check_label(new.group, "group column")
+        saved = (self._group_codes, self._group_labels, self._group)
+        if new.group != self._group:
+            if new.group is None:
+                self._group_codes, self._group_labels, self._group = None, [], None
+            else:
+                self._set_group(new.group)
+            # the group column is shared by all columns
+            for other in self._columns:
+                self._settings[other] = self._settings[other].update(group=new.group)
+                self._evals.pop(other, None)
+        self._settings[c] = new
+        self._evals.pop(c, None)
+        try:
+            result = self.evaluation(c)
+        except Exception:
+            self._settings[c] = old
+            if (self._group_codes, self._group_labels, self._group) != saved:
+                self._group_codes, self._group_labels, self._group = saved
+                for other in self._columns:
+                    self._settings[other] = self._settings[other].update(group=saved[2])
+                    self._evals.pop(other, None)
+            self._evals.pop(c, None)
+            raise
+        self._changed(None if new.group != old.group else c)
+        return result
+
+    def _prepare(self, c: Hashable, s: ev.Settings) -> ev.Prepared:
+        key = (c, s.transform, s.lmbda)
+        p = self._prepared.get(key)
+        if p is None:
+            p = ev.prepare(self._raw[c], s.transform, s.lmbda)
+            if len(self._prepared) > 16:
+                self._prepared.pop(next(iter(self._prepared)))
+            self._prepared[key] = p
+        return p
+
+    def evaluation(self, column: Hashable | None = None) -> ev.Evaluation:
+        """The column's settings applied (cached until the settings change)."""
+        c = self._col(column)
+        e = self._evals.get(c)
+        if e is None:
+            s = self._settings[c]
+            e = ev.evaluate(self._raw[c], s, group_codes=self._group_codes if s.group is not None
+                            else None, group_labels=self._group_labels,
+                            prepared=self._prepare(c, s))
+            self._evals[c] = e
+        return e
+
+    def values(self, column: Hashable | None = None) -> np.ndarray:
+        """The column's values on its screening scale, by row position (read-only view)."""
+        v = self.evaluation(column).prepared.values.view()
+        v.flags.writeable = False
+        return v
+
+    # --- states and the mask ------------------------------------------------------------------
+
+    def states(self, column: Hashable | None = None) -> np.ndarray:
+        """State code of every row in a column: 0 plain, 1 flagged, 2 marked, 3 kept,
+        4 missing (see ``STATE_NAMES``)."""
+        c = self._col(column)
+        e = self.evaluation(c)
+        st = np.zeros(self._n, dtype=np.int8)
+        st[e.flagged] = FLAGGED
+        st[self._marked[c]] = MARKED
+        st[self._kept[c]] = KEPT
+        st[np.isnan(e.prepared.values)] = MISSING
+        return st
+
+    def _contribution(self, c: Hashable) -> np.ndarray:
+        m = self._contrib.get(c)
+        if m is None:
+            e = self.evaluation(c)
+            m = (e.flagged | self._marked[c]) & ~self._kept[c] & ~np.isnan(e.prepared.values)
+            self._contrib[c] = m
+        return m
+
+    def mask_array(self) -> np.ndarray:
+        """The mask as a numpy bool array by row position."""
+        if self._mask is None:
+            out = np.zeros(self._n, dtype=bool)
+            for c in self._columns:
+                out |= self._contribution(c)
+            self._mask = out
+        return self._mask
+
+    @property
+    def mask(self) -> pd.Series:
+        """``(flagged | marked) & ~kept`` in any screened column, as a boolean Series with the
+        frame's index: ``df[~screen.mask]`` is the data with the suspect rows set aside."""
+        return pd.Series(self.mask_array().copy(), index=self._df.index, name="suspect")
+
+    def counts(self, column: Hashable | None = None) -> dict[str, int]:
+        st = self.states(column)
+        tally = np.bincount(st, minlength=5)
+        return {"rows": self._n, "flagged": int(tally[FLAGGED]), "marked": int(tally[MARKED]),
+                "kept": int(tally[KEPT]), "missing": int(tally[MISSING]),
+                "mask": int(self.mask_array().sum())}
+
+    def _changed(self, column: Hashable | None) -> None:
+        if column is None:
+            self._contrib.clear()
+        else:
+            self._contrib.pop(column, None)
+        self._mask = None
+        self.version += 1
+
+    # --- hand decisions -------------------------------------------------------------------------
+
+    def _apply(self, c: Hashable, positions: np.ndarray, marked: np.ndarray | bool,
+               kept: np.ndarray | bool) -> int:
+        """Set marked/kept bits at positions, recording the change for undo."""
+        positions = np.asarray(positions, dtype=np.int64)
+        present = ~np.isnan(self._raw[c][positions]) if positions.size else np.zeros(0, bool)
+        positions = positions[present]
+        new_m = np.broadcast_to(marked, positions.shape).copy() if np.ndim(marked) == 0 else \
+            np.asarray(marked)[present]
+        new_k = np.broadcast_to(kept, positions.shape).copy() if np.ndim(kept) == 0 else \
+            np.asarray(kept)[present]
+        old_m = self._marked[c][positions]
+        old_k = self._kept[c][positions]
+        diff = (old_m != new_m) | (old_k != new_k)
+        if not diff.any():
+            return 0
+        change = _Change(c, positions[diff], old_m[diff], old_k[diff], new_m[diff], new_k[diff])
+        self._do(change)
+        self._undo.append(change)
+        self._redo.clear()
+        return int(diff.sum())
+
+    def _do(self, change: _Change | _NoteChange, forward: bool = True) -> None:
+        if isinstance(change, _NoteChange):
+            for pos, before in zip(change.positions, change.before, strict=True):
+                text = change.after if forward else before
+                if text:
+                    self._notes[int(pos)] = text
+                else:
+                    self._notes.pop(int(pos), None)
+            self.version += 1
+            return
+        c = change.column
+        self._marked[c][change.positions] = change.marked_after if forward else change.marked_before
+        self._kept[c][change.positions] = change.kept_after if forward else change.kept_before
+        self._changed(c)
+
+    def mark(self, labels: Any, column: Hashable | None = None) -> int:
+        """Mark rows by index label: they join the mask. Returns how many rows changed."""
+        return self.mark_positions(self.positions_of(labels), column)
+
+    def keep(self, labels: Any, column: Hashable | None = None) -> int:
+        """Keep rows by label: a flag or mark on them is cleared by hand."""
+        return self.keep_positions(self.positions_of(labels), column)
+
+    def clear(self, labels: Any, column: Hashable | None = None) -> int:
+        """Remove marks and keeps from rows by label: the rule's verdict applies again."""
+        return self.clear_positions(self.positions_of(labels), column)
+
+    def mark_positions(self, positions: Any, column: Hashable | None = None) -> int:
+        return self._apply(self._col(column), np.asarray(positions, dtype=np.int64), True, False)
+
+    def keep_positions(self, positions: Any, column: Hashable | None = None) -> int:
+        return self._apply(self._col(column), np.asarray(positions, dtype=np.int64), False, True)
+
+    def clear_positions(self, positions: Any, column: Hashable | None = None) -> int:
+        return self._apply(self._col(column), np.asarray(positions, dtype=np.int64), False, False)
+
+    def region_positions(self, x0: float, x1: float, y0: float, y1: float,
+                         column: Hashable | None = None) -> np.ndarray:
+        """Positions of every row whose Q–Q point (normal quantile, value on the screening
+        scale) lies in the rectangle, over all rows: both coordinates increase with rank, so
+        the rectangle holds one run of ranks found by two binary searches."""
+        e = self.evaluation(column)
+        ordered = e.prepared.ordered
+        n = ordered.size
+        if n == 0:
+            return np.empty(0, dtype=np.int64)
+        x0, x1 = sorted((float(x0), float(x1)))
+        y0, y1 = sorted((float(y0), float(y1)))
+        m = normal_quantiles(n, "filliben")
+        a = max(np.searchsorted(m, x0, "left"), np.searchsorted(ordered, y0, "left"))
+        b = min(np.searchsorted(m, x1, "right"), np.searchsorted(ordered, y1, "right"))
+        if b <= a:
+            return np.empty(0, dtype=np.int64)
+        return np.sort(e.prepared.order[a:b])
+
+    def mark_region(self, x0: float, x1: float, y0: float, y1: float, mode: str = "replace",
+                    column: Hashable | None = None) -> int:
+        """Mark the rows inside a rectangle of the Q–Q plot (theoretical quantile × value on the
+        current scale), chosen over all rows. ``mode``: ``"replace"`` the column's marks,
+        ``"add"`` to them or ``"remove"`` from them. Returns how many rows the rectangle holds."""
+        if mode not in MODES:
+            raise ValueError(f"mode must be one of {MODES}, got {mode!r}")
+        c = self._col(column)
+        inside = self.region_positions(x0, x1, y0, y1, c)
+        if mode == "add":
+            self._apply(c, inside, True, False)
+        elif mode == "remove":
+            self._apply(c, inside, False, self._kept[c][inside])
+        else:
+            before = np.flatnonzero(self._marked[c])
+            touched = np.union1d(before, inside)
+            new_m = np.isin(touched, inside, assume_unique=True)
+            new_k = np.where(new_m, False, self._kept[c][touched])
+            self._apply(c, touched, new_m, new_k)
+        return int(inside.size)
+
+    def note(self, labels: Any, text: str | None) -> None:
+        """Attach a free-text note to rows (None or "" removes it)."""
+        if text is not None and not isinstance(text, str):
+            raise TypeError(f"a note must be text, got {type(text).__name__}")
+        self.note_positions(self.positions_of(labels), text)
+
+    def note_positions(self, positions: Any, text: str | None) -> None:
+        positions = np.asarray(positions, dtype=np.int64)
+        change = _NoteChange(positions, [self._notes.get(int(p)) for p in positions], text or None)
+        self._do(change)
+        self._undo.append(change)
+        self._redo.clear()
+
+    def notes(self) -> dict[int, str]:
+        return dict(self._notes)
+
+    @property
+    def can_undo(self) -> bool:
+        return bool(self._undo)
+
+    @property
+    def can_redo(self) -> bool:
+        return bool(self._redo)
+
+    def undo(self) -> bool:
+        """Take back the last hand decision (mark, keep, clear, region or note)."""
+        if not self._undo:
+            return False
+        change = self._undo.pop()
+        self._do(change, forward=False)
+        self._redo.append(change)
+        return True
+
+    def redo(self) -> bool:
+        if not self._redo:
+            return False
+        change = self._redo.pop()
+        self._do(change)
+        self._undo.append(change)
+        return True
+
+    def marked_positions(self, column: Hashable | None = None) -> np.ndarray:
+        return np.flatnonzero(self._marked[self._col(column)])
+
+    def kept_positions(self, column: Hashable | None = None) -> np.ndarray:
+        return np.flatnonzero(self._kept[self._col(column)])
+
+    def raw(self, column: Hashable | None = None) -> np.ndarray:
+        """The column as floats on its original scale (read-only)."""
+        v = self._raw[self._col(column)].view()
+        v.flags.writeable = False
+        return v
+
+    # --- rows in context -----------------------------------------------------------------
+
+    def reasons(self, positions: Any, column: Hashable | None = None) -> list[str]:
+        """Plain-language reason per row position for the given column."""
+        c = self._col(column)
+        positions = np.asarray(positions, dtype=np.int64)
+        e = self.evaluation(c)
+        rule = ev.reasons(e, positions)
+        st = self.states(c)[positions]
+        out = []
+        for code, why, pos in zip(st, rule, positions, strict=True):
+            if code == MARKED:
+                why = "marked by hand" + (f"; the rule says: {why}" if why else "")
+            elif code == KEPT:
+                why = "kept by hand" + (f"; the rule says: {why}" if why else "")
+            elif code == MISSING:
+                why = "no value"
+            note = self._notes.get(int(pos))
+            out.append(why + (f" — note: {note}" if note else ""))
+        return out
+
+    def affected_positions(self, column: Hashable | None = None) -> np.ndarray:
+        """Rows that are flagged, marked or kept in the column, or in the mask."""
+        st = self.states(column)
+        return np.flatnonzero(((st > PLAIN) & (st < MISSING)) | self.mask_array())
+
+    def rows(self, column: Hashable | None = None, which: str = "affected") -> pd.DataFrame:
+        """The rows in context: every original column plus ``state``, ``score`` and ``reason``
+        for the column, ``note`` and ``in_mask``. ``which``: ``"affected"`` (flagged, marked,
+        kept or in the mask), ``"mask"``, ``"flagged"``, ``"marked"``, ``"kept"`` or ``"all"``."""
+        c = self._col(column)
+        positions = self.select_rows(which, c)
+        out = self._df.iloc[positions].copy()
+        st = self.states(c)[positions]
+        extra = {
+            "state": np.asarray(STATE_NAMES, dtype=object)[st],
+            "score": self.evaluation(c).scores[positions],
+            "reason": self.reasons(positions, c),
+            "note": [self._notes.get(int(p), "") for p in positions],
+            "in_mask": self.mask_array()[positions],
+        }
+        for name, values in extra.items():
+            label = name
+            while label in out.columns:
+                label = f"{label}_"
+            out[label] = values
+        return out
+
+    def select_rows(self, which: str, column: Hashable | None = None) -> np.ndarray:
+        """Row positions of one view: affected, mask, flagged, marked, kept or all."""
+        if which == "all":
+            return np.arange(self._n)
+        if which == "affected":
+            return self.affected_positions(column)
+        if which == "mask":
+            return np.flatnonzero(self.mask_array())
+        codes = {"flagged": FLAGGED, "marked": MARKED, "kept": KEPT, "missing": MISSING}
+        if which not in codes:
+            raise ValueError("which must be one of 'affected', 'mask', 'flagged', 'marked', "
+                             f"'kept', 'missing', 'all'; got {which!r}")
+        return np.flatnonzero(self.states(column) == codes[which])
+
+    # --- summary ---------------------------------------------------------------------------
+
+    def summary(self, column: Hashable | None = None) -> Summary:
+        """Location, spread, shape and normality of the column on its current scale, and a
+        comparison of the transformations on the raw values."""
+        c = self._col(column)
+        s = self._settings[c]
+        key = (c, s)
+        if key in self._summaries:
+            return self._summaries[key]
+        e = self.evaluation(c)
+        o = e.prepared.ordered
+        n = o.size
+        comparison = self.compare_transforms(c)
+        valid = [t for t in comparison if not t.error and np.isfinite(t.ppcc)]
+        best = max(valid, key=lambda t: t.ppcc).kind if valid else ""
+        nan = float("nan")
+        if n == 0:
+            out = Summary(c, ev.scale_name(s.transform), 0, self._n, *([nan] * 10), None,
+                          comparison, best, "no values")
+        else:
+            m = moments(o)
+            med = sorted_median(o)
+            q1, q3 = sorted_quantile(o, 0.25), sorted_quantile(o, 0.75)
+            try:
+                norm, err = normality_sorted(o), ""
+            except ValueError as exc:
+                norm, err = None, str(exc)
+            out = Summary(c, ev.scale_name(s.transform), n, self._n - n, m.mean, m.sd, med,
+                          float(np.median(np.abs(o - med))), q1, q3, q3 - q1, m.skewness,
+                          m.excess_kurtosis, norm, comparison, best, err)
+        if len(self._summaries) > 32:
+            self._summaries.clear()
+        self._summaries[key] = out
+        return out
+
+    def compare_transforms(self, column: Hashable | None = None) -> tuple[TransformComparison, ...]:
+        """Skewness and PPCC of the raw column under each transformation (λ fitted)."""
+        c = self._col(column)
+        raw = self._raw[c]
+        present = raw[~np.isnan(raw)]
+        o = np.sort(present)
+        out = []
+        for kind in TRANSFORMS:
+            try:
+                values, lm = fit(o, kind)
+                if kind in DECREASING:
+                    values = values[::-1]
+                if values.size < 3 or values[0] == values[-1]:
+                    raise ValueError("too few distinct values")
+                skew = moments(values).skewness
+                r = fit_line(normal_quantiles(values.size, "filliben"), values)[2]
+                out.append(TransformComparison(kind, lm, skew, r))
+            except ValueError as exc:
+                out.append(TransformComparison(kind, None, float("nan"), float("nan"), str(exc)))
+        return tuple(out)
+
+    # --- hand-over ------------------------------------------------------------------------
+
+    @property
+    def ledger(self) -> Ledger:
+        """The decisions as a :class:`strayline.Ledger` that replays them on new data."""
+        from .ledger import Ledger
+
+        return Ledger.from_screen(self)
+
+    def __repr__(self) -> str:
+        return (f"Screen({self._n} rows, columns={list(self._columns)}, "
+                f"current={self._current!r}, in mask={int(self.mask_array().sum())})")

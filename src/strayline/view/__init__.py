@@ -1,0 +1,1 @@
+"""What the notebook shows: the panel, its figures, the table, and the mask write-back."""
