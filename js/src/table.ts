@@ -147,6 +147,8 @@ export function mountTable(model: TableModel, el: HTMLElement): () => void {
   /** Notes being typed, by row id, so a redraw mid-typing keeps them. */
   const drafts = new Map<number, string>();
   let focusedRow: HTMLTableRowElement | null = null;
+  /** True while the body is being replaced: focus leaving a removed input is no commit. */
+  let drawing = false;
   let scrolledToFocus = -1;
 
   // ---- drawing ------------------------------------------------------------
@@ -279,7 +281,12 @@ export function mountTable(model: TableModel, el: HTMLElement): () => void {
       );
       fragment.append(tr);
     }
-    tbody.replaceChildren(fragment);
+    drawing = true;
+    try {
+      tbody.replaceChildren(fragment);
+    } finally {
+      drawing = false;
+    }
     drawFocus();
     drawBrushed();
     restoreFocus();
@@ -479,9 +486,11 @@ export function mountTable(model: TableModel, el: HTMLElement): () => void {
       event.preventDefault();
     }
   };
+  // "change" covers typing then leaving; "focusout" also covers a note that
+  // was carried over a redraw, whose new input the user has not edited.
   const onBodyChange = (event: Event): void => {
     const input = noteInput(event.target);
-    if (input) commitNote(input);
+    if (input && !drawing) commitNote(input);
   };
   const onBodyInput = (event: Event): void => {
     const input = noteInput(event.target);
@@ -510,6 +519,7 @@ export function mountTable(model: TableModel, el: HTMLElement): () => void {
     [tbody, "keydown", onBodyKeyDown as EventListener],
     [tbody, "keyup", onBodyKeyUp as EventListener],
     [tbody, "change", onBodyChange],
+    [tbody, "focusout", onBodyChange],
     [tbody, "input", onBodyInput],
     [prev, "click", onPrev],
     [next, "click", onNext],

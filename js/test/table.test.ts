@@ -452,6 +452,30 @@ describe("notes", () => {
     expect(model.sent).toEqual([{ kind: "note", id: 4, text: "half a thou" }]);
   });
 
+  it("a note carried over a redraw is sent when the input loses focus", () => {
+    const model = mount(threeRows());
+    const input = $<HTMLInputElement>('tr[data-id="4"] input[data-role="note"]');
+    input.focus();
+    input.value = "drift";
+    input.dispatchEvent(new Event("input", { bubbles: true }));
+    model.update({ rows: [...model.get("rows")] });
+    const again = $<HTMLInputElement>('tr[data-id="4"] input[data-role="note"]');
+    // The browser fires no "change" here: the user has not edited the new input.
+    again.dispatchEvent(new FocusEvent("focusout", { bubbles: true }));
+    expect(model.sent).toEqual([{ kind: "note", id: 4, text: "drift" }]);
+    again.dispatchEvent(new Event("change", { bubbles: true }));
+    expect(model.sent).toHaveLength(1);
+  });
+
+  it("leaving a note unchanged sends nothing", () => {
+    const model = mount(threeRows());
+    const input = $<HTMLInputElement>('tr[data-id="17"] input[data-role="note"]');
+    input.focus();
+    input.blur();
+    input.dispatchEvent(new FocusEvent("focusout", { bubbles: true }));
+    expect(model.sent).toEqual([]);
+  });
+
   it("text typed into a row that leaves the page is sent, not lost", () => {
     const model = mount(threeRows());
     const input = $<HTMLInputElement>('tr[data-id="4"] input[data-role="note"]');
