@@ -61,6 +61,37 @@ class Summary:
     error: str = ""
 
 
+@dataclass(frozen=True)
+class QQView:
+    """Q–Q coordinates of one column: x (normal quantiles), y (ordered values), positions."""
+
+    theoretical: np.ndarray
+    ordered: np.ndarray
+    order: np.ndarray
+    slope: float
+    intercept: float
+    r: float
+
+
+@dataclass(frozen=True)
+class HistogramView:
+    edges: np.ndarray
+    counts: np.ndarray
+    marked_counts: np.ndarray
+    curve_x: np.ndarray
+    curve_y: np.ndarray
+
+
+@dataclass(frozen=True)
+class BoxView:
+    q1: float
+    median: float
+    q3: float
+    whisker_lo: float
+    whisker_hi: float
+    k: float
+
+
 @dataclass
 class _Change:
     column: Hashable
@@ -147,7 +178,9 @@ class Screen:
         self._mask: np.ndarray | None = None
         self._undo: list[_Change | _NoteChange] = []
         self._redo: list[_Change | _NoteChange] = []
-        self._summaries: dict[tuple[Hashable, ev.Settings], Summary] = {}
+        self._summaries: dict[tuple[Any, ...], Summary] = {}
+        self._comparisons: dict[Hashable, tuple[TransformComparison, ...]] = {}
+        self._qq: dict[tuple[Hashable, ev.Settings], QQView] = {}
         self.version = 0
 
     # --- edges: labels and columns ---------------------------------------------------------
@@ -570,7 +603,7 @@ class Screen:
         comparison of the transformations on the raw values."""
         c = self._col(column)
         s = self._settings[c]
-        key = (c, s)
+        key = (c, s.transform, s.lmbda)
         if key in self._summaries:
             return self._summaries[key]
         e = self.evaluation(c)
@@ -602,6 +635,8 @@ class Screen:
     def compare_transforms(self, column: Hashable | None = None) -> tuple[TransformComparison, ...]:
         """Skewness and PPCC of the raw column under each transformation (λ fitted)."""
         c = self._col(column)
+        if c in self._comparisons:
+            return self._comparisons[c]
         raw = self._raw[c]
         present = raw[~np.isnan(raw)]
         o = np.sort(present)
@@ -618,7 +653,102 @@ class Screen:
                 out.append(TransformComparison(kind, lm, skew, r))
             except ValueError as exc:
                 out.append(TransformComparison(kind, None, float("nan"), float("nan"), str(exc)))
-        return tuple(out)
+        self._comparisons[c] = tuple(out)
+        return self._comparisons[c]
+
+    # --- what the plots draw ----------------------------------------------------------------
+
+    def qq_coordinates(self, column: Hashable | None = None) -> QQView:
+        """Q–Q coordinates of every present value on the current scale (arrays are shared and
+        read-only): theoretical quantiles, ordered values, their row positions, the
+        least-squares reference line and the PPCC."""
+        c = self._col(column)
+        key = (c, self._settings[c])
+        cached = self._qq.get(key)
+        if cached is None:
+            e = self.evaluation(c)
+            o = e.prepared.ordered
+            m = normal_quantiles(o.size, "filliben") if o.size else np.empty(0)
+            slope, intercept, r = fit_line(m, o) if o.size >= 3 else (np.nan, np.nan, np.nan)
+            cached = QQView(m, o, e.prepared.order, slope, intercept, r)
+            if len(self._qq) > 8:
+                self._qq.clear()
+            self._qq[key] = cached
+        return cached
+
+    def qq_band(self, theoretical: np.ndarray, column: Hashable | None = None,
+                level: float = 0.95) -> tuple[np.ndarray, np.ndarray]:
+        """Pointwise confidence band of the reference line at the given normal quantiles:
+        line ± z · slope · sqrt(p(1 - p)/n) / φ(q), the standard error of an order statistic
+        (J. Fox, Applied Regression Analysis, 3rd ed., 2016, section 3.1.3)."""
+        from scipy import stats as sps
+
+        v = self.qq_coordinates(column)
+        n = v.ordered.size
+        p = sps.norm.cdf(theoretical)
+        se = v.slope * np.sqrt(p * (1 - p) / n) / sps.norm.pdf(theoretical)
+        z = sps.norm.ppf(0.5 + level / 2)
+        line = v.intercept + v.slope * theoretical
+        return line - z * se, line + z * se
+
+    def histogram(self, column: Hashable | None = None, max_bins: int = 60) -> HistogramView:
+        """Bin edges and counts of the column on its current scale (Freedman–Diaconis width,
+        at most *max_bins* bins), counts of the marked rows, and the fitted normal density
+        scaled to counts."""
+        c = self._col(column)
+        v = self.qq_coordinates(c)
+        o = v.ordered
+        if o.size == 0 or o[0] == o[-1]:
+            lo = float(o[0]) if o.size else 0.0
+            edges = np.array([lo - 0.5, lo + 0.5])
+        else:
+            iqr = sorted_quantile(o, 0.75) - sorted_quantile(o, 0.25)
+            width = 2 * iqr / np.cbrt(o.size) if iqr > 0 else 0.0
+            span = float(o[-1] - o[0])
+            bins = int(np.clip(np.ceil(span / width) if width > 0 else 10, 5, max_bins))
+            edges = np.linspace(o[0], o[-1], bins + 1)
+        counts = np.histogram(o, edges)[0]
+        e = self.evaluation(c)
+        marked = e.prepared.values[self._marked[c] & ~np.isnan(e.prepared.values)]
+        marked_counts = np.histogram(marked, edges)[0]
+        m = moments(o) if o.size else None
+        grid = np.linspace(edges[0], edges[-1], 121)
+        if m is not None and m.sd > 0:
+            width = edges[1] - edges[0]
+            density = np.exp(-0.5 * ((grid - m.mean) / m.sd) ** 2) / (m.sd * np.sqrt(2 * np.pi))
+            curve = density * o.size * width
+        else:
+            curve = np.zeros_like(grid)
+        return HistogramView(edges, counts, marked_counts, grid, curve)
+
+    def box(self, column: Hashable | None = None) -> BoxView:
+        """Quartiles, median and whiskers at k·IQR (k of the column's fences, else 1.5) to the
+        most extreme values inside, on the current scale."""
+        c = self._col(column)
+        o = self.qq_coordinates(c).ordered
+        if o.size == 0:
+            nan = float("nan")
+            return BoxView(nan, nan, nan, nan, nan, 1.5)
+        s = self._settings[c]
+        k = float(s.rule_params.get("k", 1.5))
+        q1, q3 = sorted_quantile(o, 0.25), sorted_quantile(o, 0.75)
+        lo_fence, hi_fence = q1 - k * (q3 - q1), q3 + k * (q3 - q1)
+        a = int(np.searchsorted(o, lo_fence, "left"))
+        b = int(np.searchsorted(o, hi_fence, "right")) - 1
+        w_lo = float(o[min(a, o.size - 1)])
+        w_hi = float(o[max(b, 0)])
+        return BoxView(q1, sorted_median(o), q3, min(w_lo, q1), max(w_hi, q3), k)
+
+    def rank_of(self, position: int, column: Hashable | None = None) -> int | None:
+        """Rank (index into the ordered values) of one row's point in the Q–Q plot."""
+        v = self.qq_coordinates(column)
+        value = self.evaluation(column).prepared.values[int(position)]
+        if np.isnan(value):
+            return None
+        lo = int(np.searchsorted(v.ordered, value, "left"))
+        hi = int(np.searchsorted(v.ordered, value, "right"))
+        hits = np.flatnonzero(v.order[lo:hi] == position)
+        return lo + int(hits[0]) if hits.size else lo
 
     # --- hand-over ------------------------------------------------------------------------
 
