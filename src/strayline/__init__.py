@@ -4,7 +4,7 @@ A flag is a prompt to look, not a reason to delete: record why a value is exclud
 your own procedures.
 """
 
-from . import stats
+from . import demo, stats
 from ._version import __version__
 from .evaluate import Settings
 from .ledger import Ledger, LedgerError, LedgerWarning
@@ -21,5 +21,5 @@ def panel(*args, **kwargs):  # noqa: ANN002, ANN003, ANN201
     return _panel(*args, **kwargs)
 
 
-__all__ = ["Ledger", "LedgerError", "LedgerWarning", "Screen", "Settings", "__version__",
+__all__ = ["Ledger", "LedgerError", "LedgerWarning", "Screen", "Settings", "__version__", "demo",
            "panel", "stats", "write_mask", *_stats_all]
