@@ -152,6 +152,12 @@ class Panel(W.VBox):
 
     # --- public -------------------------------------------------------------------------------
 
+    def __repr__(self) -> str:
+        s = self.screen
+        target = f", writes {self.mask_name!r}" if self.mask_name else ""
+        return (f"strayline panel: {len(s.columns)} column(s), {s.frame.shape[0]:,} rows, "
+                f"{int(s.mask_array().sum()):,} in the mask{target}")
+
     @property
     def mask(self) -> pd.Series:
         s = self.screen.mask
