@@ -26,7 +26,7 @@ def _scatter(x: bq.LinearScale, y: bq.LinearScale, colour: str, marker: str, siz
              fill: bool = True, name: str = "") -> bq.Scatter:
     return bq.Scatter(x=np.zeros(0), y=np.zeros(0), scales={"x": x, "y": y}, colors=[colour],
                       marker=marker, default_size=size, fill=fill, stroke=colour,
-                      default_opacities=[0.85], display_legend=bool(name), labels=[name],
+                      opacities=[0.85], display_legend=bool(name), labels=[name],
                       unselected_style={"opacity": 0.85}, selected_style={"opacity": 1.0})
 
 
@@ -65,7 +65,7 @@ def qq_figure() -> QQFigure:
     fences = bq.Lines(x=np.zeros((2, 2)), y=np.zeros((2, 2)), scales={"x": sx, "y": sy},
                       colors=[FLAGGED_COLOUR], line_style="dash_dotted", stroke_width=1.2)
     x_axis = bq.Axis(scale=sx, label="normal quantile", grid_lines="none")
-    y_axis = bq.Axis(scale=sy, orientation="vertical", label="value", grid_lines="none",
+    y_axis = bq.Axis(scale=sy, side="left", label="value", grid_lines="none",
                      label_offset="46px")
     brush = bq.interacts.BrushSelector(x_scale=sx, y_scale=sy, marks=[plain], color="#3A6EA5")
     fig = bq.Figure(marks=[band, line, fences, plain, flagged, kept, marked, focus],
@@ -100,7 +100,7 @@ def hist_figure() -> HistFigure:
     fences = bq.Lines(x=np.zeros((2, 2)), y=np.zeros((2, 2)), scales={"x": sx, "y": sy},
                       colors=[FLAGGED_COLOUR], line_style="dash_dotted", stroke_width=1.2)
     x_axis = bq.Axis(scale=sx, label="value", grid_lines="none")
-    y_axis = bq.Axis(scale=sy, orientation="vertical", label="count", grid_lines="none",
+    y_axis = bq.Axis(scale=sy, side="left", label="count", grid_lines="none",
                      tick_format=".2s")
     fig = bq.Figure(marks=[bars, marked, curve, fences], axes=[x_axis, y_axis],
                     layout={"width": "100%", "height": "220px", "min_width": "260px"}, **_FIG)
