@@ -446,19 +446,27 @@ class Screen:
         """Positions of every row whose Q–Q point (normal quantile, value on the screening
         scale) lies in the rectangle, over all rows: both coordinates increase with rank, so
         the rectangle holds one run of ranks found by two binary searches."""
-        e = self.evaluation(column)
-        ordered = e.prepared.ordered
+        a, b = self._region_ranks(x0, x1, y0, y1, column)
+        if b <= a:
+            return np.empty(0, dtype=np.int64)
+        return np.sort(self.evaluation(column).prepared.order[a:b])
+
+    def _region_ranks(self, x0: float, x1: float, y0: float, y1: float,
+                      column: Hashable | None = None) -> tuple[int, int]:
+        """The run of ranks [a, b) whose Q–Q points lie in the rectangle."""
+        ordered = self.evaluation(column).prepared.ordered
         n = ordered.size
         if n == 0:
-            return np.empty(0, dtype=np.int64)
+            return 0, 0
+        bad = [v for v in (x0, x1, y0, y1) if not np.isfinite(float(v))]
+        if bad and not all(np.isinf(float(v)) for v in bad):
+            raise ValueError(f"a region needs numbers, got {bad}")
         x0, x1 = sorted((float(x0), float(x1)))
         y0, y1 = sorted((float(y0), float(y1)))
         m = normal_quantiles(n, "filliben")
-        a = max(np.searchsorted(m, x0, "left"), np.searchsorted(ordered, y0, "left"))
-        b = min(np.searchsorted(m, x1, "right"), np.searchsorted(ordered, y1, "right"))
-        if b <= a:
-            return np.empty(0, dtype=np.int64)
-        return np.sort(e.prepared.order[a:b])
+        a = max(int(np.searchsorted(m, x0, "left")), int(np.searchsorted(ordered, y0, "left")))
+        b = min(int(np.searchsorted(m, x1, "right")), int(np.searchsorted(ordered, y1, "right")))
+        return a, max(a, b)
 
     def mark_region(self, x0: float, x1: float, y0: float, y1: float, mode: str = "replace",
                     column: Hashable | None = None) -> int:
@@ -468,18 +476,20 @@ class Screen:
         if mode not in MODES:
             raise ValueError(f"mode must be one of {MODES}, got {mode!r}")
         c = self._col(column)
-        inside = self.region_positions(x0, x1, y0, y1, c)
+        e = self.evaluation(c)
+        a, b = self._region_ranks(x0, x1, y0, y1, c)
+        inside = np.zeros(self._n, dtype=bool)
+        inside[e.prepared.order[a:b]] = True
+        marked, kept = self._marked[c], self._kept[c]
         if mode == "add":
-            self._apply(c, inside, True, False)
+            new_m, new_k = marked | inside, kept & ~inside
         elif mode == "remove":
-            self._apply(c, inside, False, self._kept[c][inside])
+            new_m, new_k = marked & ~inside, kept
         else:
-            before = np.flatnonzero(self._marked[c])
-            touched = np.union1d(before, inside)
-            new_m = np.isin(touched, inside, assume_unique=True)
-            new_k = np.where(new_m, False, self._kept[c][touched])
-            self._apply(c, touched, new_m, new_k)
-        return int(inside.size)
+            new_m, new_k = inside, kept & ~inside
+        changed = np.flatnonzero((new_m != marked) | (new_k != kept))
+        self._apply(c, changed, new_m[changed], new_k[changed])
+        return max(b - a, 0)
 
     def note(self, labels: Any, text: str | None) -> None:
         """Attach a free-text note to rows (None or "" removes it)."""

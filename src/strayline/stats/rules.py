@@ -8,6 +8,7 @@ from typing import Any
 
 import numpy as np
 import pandas as pd
+from scipy import special
 from scipy import stats as sps
 
 from ._input import Column, check_alpha, check_positive, column, like_input, require, scale_exponent
@@ -210,8 +211,7 @@ def gesd_critical(n: int, max_outliers: int, alpha: float) -> np.ndarray:
     """Rosner's critical values λ_i = (n-i) t_{p, n-i-1} / sqrt((n-i-1+t²)(n-i+1)),
     p = 1 - alpha / (2(n-i+1)), i = 1..r (NIST/SEMATECH e-Handbook, 1.3.5.17.3)."""
     i = np.arange(1, max_outliers + 1, dtype=float)
-    p = 1 - alpha / (2 * (n - i + 1))
-    t = sps.t.ppf(p, n - i - 1)
+    t = special.stdtrit(n - i - 1, 1 - alpha / (2 * (n - i + 1)))
     return (n - i) * t / np.sqrt((n - i - 1 + t * t) * (n - i + 1))
 
 

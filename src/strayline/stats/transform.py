@@ -135,7 +135,7 @@ def yeojohnson_lambda(values: np.ndarray) -> float:
 def apply(values: np.ndarray, kind: str, lmbda: float | None) -> np.ndarray:
     """Transform float values (NaN passes through) with a known λ."""
     if kind == "none":
-        return values.copy()
+        return values  # shared, never written to
     if kind == "log":
         return np.log(values)
     if kind == "sqrt":
@@ -219,4 +219,6 @@ def transform(x: Any, kind: str, lmbda: float | None = None) -> Transformed:
     """
     col = column(x)
     values, lm = fit(col.values, kind, lmbda)
+    if values is col.values and col.index is not None:
+        values = values.copy()  # never hand out a view of the caller's data
     return Transformed(values=like_input(values, col), kind=kind, lmbda=lm)
