@@ -91,7 +91,7 @@ def prepare(raw: np.ndarray, kind: str, lmbda: float | None = None) -> Prepared:
     """Transform raw float values (NaN = missing) and sort them once."""
     values, lm = fit(raw, kind, lmbda)
     present = np.flatnonzero(~np.isnan(values))
-    order = present[np.argsort(values[present], kind="stable")]
+    order = present[np.argsort(values[present])]
     return Prepared(values=values, order=order, ordered=values[order], kind=kind, lmbda=lm)
 
 

@@ -177,5 +177,5 @@ def qq(x: Any, positions: str = "filliben", line: str = "fit") -> QQ:
     col = column(x)
     present = np.flatnonzero(col.present)
     values = col.values[present]
-    idx = np.argsort(values, kind="stable")
+    idx = np.argsort(values)
     return qq_sorted(values[idx], positions, line, order=present[idx])

@@ -283,7 +283,7 @@ def gesd(x: Any, max_outliers: int, alpha: float = 0.05) -> GESD:
     values = col.values[present]
     n = values.size
     r = _check_max_outliers(max_outliers, n)
-    idx = np.argsort(values, kind="stable")
+    idx = np.argsort(values)
     s = values[idx]
     zscore_center_scale(s)  # refuses constant data
     order, stats_ = sorted_gesd_steps(s, r)
@@ -487,7 +487,7 @@ def flag(x: Any, rule: str = "fences", **params: Any) -> Flags:
     col: Column = column(x)
     present = np.flatnonzero(col.present)
     values = col.values[present]
-    idx = np.argsort(values, kind="stable")
+    idx = np.argsort(values)
     b = sorted_bounds(values[idx], rule, p)
     mask = np.zeros(col.values.size, dtype=bool)
     mask[present[idx[b.flagged]]] = True
