@@ -90,8 +90,10 @@ class Prepared:
 def prepare(raw: np.ndarray, kind: str, lmbda: float | None = None) -> Prepared:
     """Transform raw float values (NaN = missing) and sort them once."""
     values, lm = fit(raw, kind, lmbda)
-    present = np.flatnonzero(~np.isnan(values))
-    order = present[np.argsort(values[present])]
+    n_present = int(np.count_nonzero(~np.isnan(values)))
+    order = np.argsort(values)  # NaN sorts last
+    if n_present < order.size:
+        order = order[:n_present].copy()
     return Prepared(values=values, order=order, ordered=values[order], kind=kind, lmbda=lm)
 
 

@@ -30,11 +30,12 @@ from typing import Any
 
 import numpy as np
 
-from ._input import column, require
+from ._input import column, require, scale_exponent
 from .location import sorted_median
 
 _ENUMERATE = 1 << 22
 _SAMPLE = 1 << 19
+_BLOCK = 1 << 19
 
 
 def _kernel(u: np.ndarray, v: np.ndarray) -> np.ndarray:
@@ -43,7 +44,18 @@ def _kernel(u: np.ndarray, v: np.ndarray) -> np.ndarray:
 
 def _cut(u: np.ndarray, v: np.ndarray, t: float, strict: bool, lo: np.ndarray,
          hi: np.ndarray) -> np.ndarray:
-    """Per row i, how many columns j have h(i, j) < t (strict) or <= t, clipped to [lo, hi].
+    """Per row i, how many columns j have h(i, j) < t (strict) or <= t, clipped to [lo, hi];
+    rows are taken in blocks so that the working memory stays small."""
+    out = np.empty(u.size, dtype=lo.dtype)
+    for start in range(0, u.size, _BLOCK):
+        rows = slice(start, start + _BLOCK)
+        out[rows] = _cut_block(u[rows], v, t, strict, lo[rows], hi[rows])
+    return out
+
+
+def _cut_block(u: np.ndarray, v: np.ndarray, t: float, strict: bool, lo: np.ndarray,
+               hi: np.ndarray) -> np.ndarray:
+    """:func:`_cut` for one block of rows.
 
     h < t  <=>  v_j < u_i (t - 1)/(t + 1), so a binary search per row finds the cut; the cut is
     then checked against the kernel itself so that the counts agree with the values selected.
@@ -98,8 +110,9 @@ def _select(u: np.ndarray, v: np.ndarray, r: int,
     ascending u > 0 and ascending v < 0, and the (r+1)-th when it is found on the way (else None).
     """
     p, q = u.size, v.size
-    lo = np.zeros(p, dtype=np.int64)
-    hi = np.full(p, q, dtype=np.int64)
+    index = np.int32 if q < 2**31 - 1 else np.int64
+    lo = np.zeros(p, dtype=index)
+    hi = np.full(p, q, dtype=index)
     rng = np.random.default_rng(20080801)
     while True:
         w = hi - lo
@@ -107,10 +120,18 @@ def _select(u: np.ndarray, v: np.ndarray, r: int,
         below = int(lo.sum())
         k = r - below
         if total <= enumerate_limit:
-            rows = np.repeat(np.arange(p), w)
+            rows = np.repeat(np.arange(p, dtype=lo.dtype), w)
             starts = np.cumsum(w) - w
-            cols = lo[rows] + (np.arange(total) - starts[rows])
-            vals = _kernel(u[rows], v[cols])
+            cols = (np.arange(total) - starts[rows]).astype(lo.dtype)
+            cols += lo[rows]
+            del starts
+            left = u[rows]
+            right = v[cols]
+            del rows, cols
+            vals = left + right  # the kernel (u + v) / (u - v), as _kernel computes it
+            np.subtract(left, right, out=left)
+            vals /= left
+            del left, right
             if k + 1 < total:
                 vals = np.partition(vals, (k, k + 1))
                 return float(vals[k]), float(vals[k + 1])
@@ -119,6 +140,7 @@ def _select(u: np.ndarray, v: np.ndarray, r: int,
         draws = rng.integers(0, total, size=_SAMPLE)
         rows = np.searchsorted(cw, draws, side="right")
         cols = lo[rows] + (draws - (cw[rows] - w[rows]))
+        del cw
         sample = np.sort(_kernel(u[rows], v[cols]))
         f = k / total
         spread = int(3.5 * np.sqrt(_SAMPLE * f * (1 - f))) + 2
@@ -160,9 +182,11 @@ def medcouple_sorted(s: np.ndarray, *, enumerate_limit: int = _ENUMERATE) -> flo
     n = s.size
     require(n, 1, "the medcouple")
     z = s - sorted_median(s)
-    k = int(np.count_nonzero(z == 0.0))
-    u = z[z > 0.0]
-    v = z[z < 0.0]
+    first_zero = int(np.searchsorted(z, 0.0, side="left"))
+    past_zero = int(np.searchsorted(z, 0.0, side="right"))
+    k = past_zero - first_zero
+    u = z[past_zero:]  # views of z: values above and below the median, ascending
+    v = z[:first_zero]
     p, q = u.size + k, v.size + k
     pairs = p * q
     n_minus = k * v.size + k * (k - 1) // 2
@@ -232,4 +256,5 @@ def medcouple(x: Any) -> float:
     0.4
     """
     col = column(x)
-    return medcouple_sorted(np.sort(col.clean))
+    s = np.sort(col.clean)
+    return medcouple_sorted(np.ldexp(s, -scale_exponent(s)))  # scale-free; no overflow in h
