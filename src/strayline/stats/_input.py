@@ -60,12 +60,18 @@ def to_float(x: Any, name: Any = None) -> np.ndarray:
         if pd.api.types.is_datetime64_any_dtype(dtype) or pd.api.types.is_timedelta64_dtype(dtype):
             raise TypeError(f"{label} holds dates or durations ({dtype}); convert to numbers "
                             "first, e.g. s.dt.total_seconds() or (s - s.min()).dt.days")
+        if pd.api.types.is_complex_dtype(dtype):
+            raise TypeError(f"{label} is complex; screen its real part, modulus or phase "
+                            "explicitly")
         if pd.api.types.is_bool_dtype(dtype):
             return x.astype("float64").to_numpy(dtype="float64", na_value=np.nan)
         if pd.api.types.is_numeric_dtype(dtype) and not pd.api.types.is_complex_dtype(dtype):
             return x.to_numpy(dtype="float64", na_value=np.nan)
         return _from_objects(x.to_numpy(dtype=object), label)
     arr = np.asarray(x)
+    if arr.dtype.kind in "US" and not isinstance(x, np.ndarray):
+        # a list mixing numbers and strings: numpy would turn the numbers into strings too
+        arr = np.asarray(x, dtype=object)
     if arr.ndim == 0:
         raise TypeError(f"expected a one-dimensional array of numbers, got a scalar {arr!r}")
     if arr.ndim != 1:

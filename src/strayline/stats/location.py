@@ -35,7 +35,11 @@ def sorted_median(s: np.ndarray) -> float:
     """Median of ascending values."""
     n = s.size
     mid = n // 2
-    return float(s[mid]) if n % 2 else float((s[mid - 1] + s[mid]) / 2)
+    if n % 2:
+        return float(s[mid])
+    a, b = float(s[mid - 1]), float(s[mid])
+    m = (a + b) / 2
+    return m if np.isfinite(m) else 0.5 * a + 0.5 * b  # a + b beyond the largest float
 
 
 def mad(values: np.ndarray, center: float) -> float:

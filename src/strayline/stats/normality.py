@@ -10,7 +10,7 @@ import numpy as np
 from scipy import special
 from scipy import stats as sps
 
-from ._input import column, require
+from ._input import column, require, scale_exponent
 from .location import moments
 from .qq import fit_line, normal_quantiles
 
@@ -107,6 +107,9 @@ def normality_sorted(s: np.ndarray) -> Normality:
     require(n, 3, "normality diagnostics")
     if s[0] == s[-1]:
         raise ValueError("normality diagnostics need values that are not all equal")
+    # every result is scale-free: work on values scaled by a power of two (exact), so that
+    # sums of squares cannot overflow near the largest float
+    s = np.ldexp(s, -scale_exponent(s))
     m = moments(s)
     shapiro = None
     if n <= SHAPIRO_MAX_N:

@@ -9,7 +9,7 @@ from typing import Any, Literal
 import numpy as np
 from scipy import special
 
-from ._input import column, require
+from ._input import column, require, scale_exponent
 
 Positions = Literal["filliben", "blom", "weibull", "hazen"]
 POSITIONS: tuple[str, ...] = ("filliben", "blom", "weibull", "hazen")
@@ -102,6 +102,8 @@ class QQ:
 def fit_line(theoretical: np.ndarray, ordered: np.ndarray) -> tuple[float, float, float]:
     """Least-squares line of ordered on theoretical and their correlation (slope, intercept, r),
     as ``scipy.stats.probplot(..., fit=True)`` computes them."""
+    e = scale_exponent(ordered)  # exact scaling, so that sums of squares cannot overflow
+    ordered = np.ldexp(ordered, -e)
     mx = theoretical.mean()
     my = ordered.mean()
     dx = theoretical - mx
@@ -112,7 +114,7 @@ def fit_line(theoretical: np.ndarray, ordered: np.ndarray) -> tuple[float, float
     slope = sxy / sxx
     intercept = float(my - slope * mx)
     r = sxy / np.sqrt(sxx * syy) if syy > 0 else np.nan
-    return float(slope), intercept, float(r)
+    return float(np.ldexp(slope, e)), float(np.ldexp(intercept, e)), float(r)
 
 
 def quartile_line(ordered: np.ndarray) -> tuple[float, float]:

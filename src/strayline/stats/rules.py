@@ -29,12 +29,13 @@ def _center_scale_z(values: np.ndarray) -> tuple[float, float]:
     return float(np.ldexp(mean, e)), float(np.ldexp(sd, e))
 
 
-def zscore_center_scale(values: np.ndarray) -> tuple[float, float]:
+def zscore_center_scale(values: np.ndarray, method: str = "the z-score rule"
+                        ) -> tuple[float, float]:
     """Mean and SD (ddof = 1) of present values, refusing too few or constant values."""
-    require(values.size, 3, "the z-score rule")
+    require(values.size, 3, method)
     mean, sd = _center_scale_z(values)
     if not sd > 0:
-        raise ValueError("the z-score rule cannot scale these data: all values are equal "
+        raise ValueError(f"{method} cannot scale these data: all values are equal "
                          "(SD is zero)")
     return mean, sd
 
@@ -45,8 +46,11 @@ def zscores(x: Any) -> np.ndarray | pd.Series:
     Common practice flags |z| > 3. Returns a Series with the input's index for a Series input.
     """
     col = column(x)
-    mean, sd = zscore_center_scale(col.clean)
-    return like_input((col.values - mean) / sd, col)
+    # on values scaled by a power of two (exact), so that x - mean cannot overflow near the
+    # largest float and tiny (subnormal) values keep their precision
+    e = scale_exponent(col.clean)
+    mean, sd = zscore_center_scale(np.ldexp(col.clean, -e))
+    return like_input((np.ldexp(col.values, -e) - mean) / sd, col)
 
 
 def robust_center_scale(s: np.ndarray) -> tuple[float, float]:
@@ -73,8 +77,9 @@ def robust_zscores(x: Any) -> np.ndarray | pd.Series:
        References in Quality Control 16, 1993.
     """
     col = column(x)
-    med, mad = robust_center_scale(np.sort(col.clean))
-    return like_input(ROBUST_Z * (col.values - med) / mad, col)
+    e = scale_exponent(col.clean)  # as in zscores
+    med, mad = robust_center_scale(np.sort(np.ldexp(col.clean, -e)))
+    return like_input(ROBUST_Z * (np.ldexp(col.values, -e) - med) / mad, col)
 
 
 # --- fences ---------------------------------------------------------------------------------
@@ -135,7 +140,7 @@ def fences(x: Any, k: float = 1.5) -> Fences:
 def sorted_adjusted_fences(s: np.ndarray, k: float = 1.5) -> AdjustedFences:
     """:func:`adjusted_fences` for ascending values with no missing values."""
     base = sorted_fences(s, k)
-    mc = medcouple_sorted(s)
+    mc = medcouple_sorted(np.ldexp(s, -scale_exponent(s)))  # scale-free; no overflow in h
     a, b = (-4.0, 3.0) if mc >= 0 else (-3.0, 4.0)
     return AdjustedFences(q1=base.q1, q3=base.q3, iqr=base.iqr,
                           lower=base.q1 - base.k * np.exp(a * mc) * base.iqr,
@@ -196,8 +201,9 @@ def grubbs(x: Any, alpha: float = 0.05) -> Grubbs:
     present = np.flatnonzero(col.present)
     values = col.values[present]
     require(values.size, 3, "Grubbs' test")
-    mean, sd = zscore_center_scale(values)
-    dev = np.abs(values - mean)
+    e = scale_exponent(values)  # as in zscores
+    mean, sd = zscore_center_scale(np.ldexp(values, -e), "Grubbs' test")
+    dev = np.abs(np.ldexp(values, -e) - mean)
     i = int(np.argmax(dev))
     g = float(dev[i] / sd)
     crit = grubbs_critical(values.size, alpha)
@@ -285,7 +291,7 @@ def gesd(x: Any, max_outliers: int, alpha: float = 0.05) -> GESD:
     r = _check_max_outliers(max_outliers, n)
     idx = np.argsort(values)
     s = values[idx]
-    zscore_center_scale(s)  # refuses constant data
+    zscore_center_scale(s, "the generalized ESD test")  # refuses constant data
     order, stats_ = sorted_gesd_steps(s, r)
     crit = gesd_critical(n, r, alpha)
     beyond = np.flatnonzero(stats_ > crit)
@@ -383,8 +389,29 @@ class Bounds:
     info: dict[str, float]
 
 
+#: Entries of Bounds.info on the data's scale (the others are scale-free).
+_SCALED_INFO = frozenset({"q1", "q3", "iqr", "box_lo", "box_hi"})
+
+
 def sorted_bounds(s: np.ndarray, rule: str, params: dict[str, Any]) -> Bounds:
-    """Apply *rule* to ascending values with no missing values (params already checked)."""
+    """Apply *rule* to ascending values with no missing values (params already checked).
+
+    The rule is evaluated on the values scaled by a power of two, which is exact and changes
+    no result, so that nothing overflows near the largest float or loses precision among tiny
+    values; the bounds are scaled back (a bound beyond the float range becomes ±inf).
+    """
+    e = scale_exponent(s)
+    if e == 0:
+        return _sorted_bounds(s, rule, params)
+    b = _sorted_bounds(np.ldexp(s, -e), rule, params)
+    with np.errstate(over="ignore"):
+        back = [float(np.ldexp(v, e)) for v in (b.lower, b.upper, b.center, b.scale_lo,
+                                                 b.scale_hi)]
+        info = {k: float(np.ldexp(v, e)) if k in _SCALED_INFO else v for k, v in b.info.items()}
+    return Bounds(back[0], back[1], b.flagged, back[2], back[3], back[4], info)
+
+
+def _sorted_bounds(s: np.ndarray, rule: str, params: dict[str, Any]) -> Bounds:
     n = s.size
     if rule in ("zscore", "robust_z"):
         t = params["threshold"]
@@ -408,7 +435,7 @@ def sorted_bounds(s: np.ndarray, rule: str, params: dict[str, Any]) -> Bounds:
                       {**info, "box_lo": f.q1, "box_hi": f.q3})
     if rule == "grubbs":
         require(n, 3, "Grubbs' test")
-        center, sd = zscore_center_scale(s)
+        center, sd = zscore_center_scale(s, "Grubbs' test")
         i = n - 1 if s[-1] - center >= center - s[0] else 0
         g = abs(s[i] - center) / sd
         crit = grubbs_critical(n, params["alpha"])
@@ -416,7 +443,7 @@ def sorted_bounds(s: np.ndarray, rule: str, params: dict[str, Any]) -> Bounds:
         return _kept_extremes(s, flagged, center, sd, {"statistic": g, "critical_value": crit})
     # gesd
     r = _check_max_outliers(params["max_outliers"], n)
-    center, sd = zscore_center_scale(s)
+    center, sd = zscore_center_scale(s, "the generalized ESD test")
     order, stats_ = sorted_gesd_steps(s, r)
     crit = gesd_critical(n, r, params["alpha"])
     beyond = np.flatnonzero(stats_ > crit)
@@ -441,15 +468,27 @@ def _kept_extremes(s: np.ndarray, flagged: np.ndarray, center: float, sd: float,
 
 
 def scores_for(values: np.ndarray, rule: str, b: Bounds) -> np.ndarray:
-    """Score of each value under a rule's result (vectorised; NaN stays NaN)."""
+    """Score of each value under a rule's result (vectorised; NaN stays NaN).
+
+    Computed on values and bounds scaled by one power of two (exact), so that differences
+    such as x - center cannot overflow near the largest float.
+    """
+    refs = [b.center, b.scale_lo, b.scale_hi, b.info.get("box_lo", 0.0),
+            b.info.get("box_hi", 0.0)]
+    present = values[~np.isnan(values)]
+    biggest = max([float(np.max(np.abs(present))) if present.size else 0.0,
+                   *(abs(r) for r in refs if np.isfinite(r))])
+    e = int(np.frexp(biggest)[1]) if 0.0 < biggest < np.inf else 0
+    values = np.ldexp(values, -e)
+    center, scale_lo, scale_hi = (np.ldexp(r, -e) for r in refs[:3])
     if rule in ("fences", "adjusted_fences"):
-        lo_box, hi_box = b.info["box_lo"], b.info["box_hi"]
+        lo_box, hi_box = (np.ldexp(r, -e) for r in refs[3:])
         out = np.zeros_like(values)
-        out[values < lo_box] = ((values - lo_box) / b.scale_lo)[values < lo_box]
-        out[values > hi_box] = ((values - hi_box) / b.scale_hi)[values > hi_box]
+        out[values < lo_box] = ((values - lo_box) / scale_lo)[values < lo_box]
+        out[values > hi_box] = ((values - hi_box) / scale_hi)[values > hi_box]
         out[np.isnan(values)] = np.nan
         return out
-    return (values - b.center) / b.scale_lo
+    return (values - center) / scale_lo
 
 
 def describe_rule(rule: str, params: dict[str, Any]) -> str:
