@@ -55,6 +55,7 @@ def load(rows: int = 2000, month: int = 1, seed: int = 20261202) -> pd.DataFrame
         values[gone] = np.nan
     probes = np.array([f"HW-{s}{k:02d}" for s in "ABCDE" for k in range(1, 3)])
     probe = probes[station * 2 + rng.integers(0, 2, rows)]
+    probe[stuck] = "HW-D01"  # the stuck readings all come from one probe
     df = pd.DataFrame({
         "station": pd.Categorical(np.array(STATIONS)[station], categories=STATIONS),
         "taken": taken,

@@ -330,8 +330,9 @@ class Ledger:
 
     def to_code(self, function: str = "suspect_mask") -> str:
         """Python source of a function ``suspect_mask(df)`` that rebuilds the mask with
-        :mod:`strayline.stats` calls (rules re-fitted, λ as recorded, hand decisions by label;
-        the value check of :meth:`apply` is left out)."""
+        :mod:`strayline.stats` calls (rules re-fitted, λ as recorded, hand decisions where the
+        label and the recorded value both match exactly; unlike :meth:`apply` it does not warn
+        about the decisions it cannot replay)."""
         lines = [
             "import numpy as np",
             "import pandas as pd",

@@ -3,7 +3,7 @@ the hand decisions, and the mask that follows from them."""
 
 from __future__ import annotations
 
-from collections.abc import Hashable, Iterable, Sequence
+from collections.abc import Callable, Hashable, Iterable, Sequence
 from dataclasses import dataclass
 from typing import TYPE_CHECKING, Any
 
@@ -181,6 +181,7 @@ class Screen:
         self._summaries: dict[tuple[Any, ...], Summary] = {}
         self._comparisons: dict[Hashable, tuple[TransformComparison, ...]] = {}
         self._qq: dict[tuple[Hashable, ev.Settings], QQView] = {}
+        self._listeners: list[Callable[[], None]] = []
         self.version = 0
 
     # --- edges: labels and columns ---------------------------------------------------------
@@ -300,6 +301,7 @@ class Screen:
             self._evals.pop(c, None)
             raise
         self._changed(None if new.group != old.group else c)
+        self._notify()
         return result
 
     def _prepare(self, c: Hashable, s: ev.Settings) -> ev.Prepared:
@@ -374,6 +376,17 @@ class Screen:
                 "kept": int(tally[KEPT]), "missing": int(tally[MISSING]),
                 "mask": int(self.mask_array().sum())}
 
+    def on_change(self, callback: Callable[[], None], remove: bool = False) -> None:
+        """Call *callback* (no arguments) after every decision, undo, redo or settings change."""
+        if remove:
+            self._listeners = [f for f in self._listeners if f is not callback]
+        else:
+            self._listeners.append(callback)
+
+    def _notify(self) -> None:
+        for callback in list(self._listeners):
+            callback()
+
     def _changed(self, column: Hashable | None) -> None:
         if column is None:
             self._contrib.clear()
@@ -403,6 +416,7 @@ class Screen:
         self._do(change)
         self._undo.append(change)
         self._redo.clear()
+        self._notify()
         return int(diff.sum())
 
     def _do(self, change: _Change | _NoteChange, forward: bool = True) -> None:
@@ -503,6 +517,7 @@ class Screen:
         self._do(change)
         self._undo.append(change)
         self._redo.clear()
+        self._notify()
 
     def notes(self) -> dict[int, str]:
         return dict(self._notes)
@@ -522,6 +537,7 @@ class Screen:
         change = self._undo.pop()
         self._do(change, forward=False)
         self._redo.append(change)
+        self._notify()
         return True
 
     def redo(self) -> bool:
@@ -530,6 +546,7 @@ class Screen:
         change = self._redo.pop()
         self._do(change)
         self._undo.append(change)
+        self._notify()
         return True
 
     def marked_positions(self, column: Hashable | None = None) -> np.ndarray:
@@ -561,6 +578,10 @@ class Screen:
                 why = "kept by hand" + (f"; the rule says: {why}" if why else "")
             elif code == MISSING:
                 why = "no value"
+            if code == PLAIN and self.mask_array()[pos]:
+                through = [str(o) for o in self._columns
+                           if o != c and self._contribution(o)[pos]]
+                why = (why + "; " if why else "") + "in the mask through " + ", ".join(through)
             note = self._notes.get(int(pos))
             out.append(why + (f" — note: {note}" if note else ""))
         return out

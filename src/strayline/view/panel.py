@@ -146,6 +146,8 @@ class Panel(W.VBox):
         self.save_button.on_click(lambda _: self._guard(self._save))
         self.columns_shown.observe(lambda _: self._guard(self._refresh_table), "value")
         self.table.on_request(self._on_table)
+        self._acting = False
+        self.screen.on_change(self._on_screen_change)
         self._syncing = False
         self._sync_controls()
         self._refresh_all()
@@ -193,6 +195,7 @@ class Panel(W.VBox):
 
     def _guard(self, action: Any, *args: Any) -> bool:
         """Run an action; on failure show the error in the panel and keep the last good state."""
+        acting, self._acting = self._acting, True
         try:
             action(*args)
         except Exception as exc:  # the panel must survive anything the data can do
@@ -202,9 +205,24 @@ class Panel(W.VBox):
             self._tb = traceback.format_exc()
             self._sync_controls()
             return False
+        finally:
+            self._acting = acting
         self.last_error = ""
         self.table.error = ""
         return True
+
+    def _on_screen_change(self) -> None:
+        """Decisions taken on ``panel.screen`` directly (in a cell) redraw the panel too."""
+        if self._acting:
+            return
+        self._guard(self._follow_screen)
+
+    def _follow_screen(self) -> None:
+        self._sort_cache.clear()
+        self._sync_controls()
+        self._refresh_lines()
+        self._refresh_summary()
+        self._after_decision()
 
     def _write_back(self) -> None:
         if self.mask_name:
