@@ -243,28 +243,45 @@ def sorted_gesd_steps(s: np.ndarray, max_outliers: int) -> tuple[np.ndarray, np.
 
     The most extreme value about the current mean is always the current smallest or largest,
     so the procedure walks inwards from both ends with running sums: O(r) after the sort.
+    When removing a far value has cancelled most digits of the running sum of squares, the
+    sums are formed again over the values left (about a middle one), so a gross outlier
+    cannot spoil the statistics of the steps after it.
     Returns (indices into s in removal order, R statistics).
     """
     n = s.size
-    e = scale_exponent(s)
-    center = float(np.ldexp(s[n // 2], -e))
-    y = np.ldexp(s, -e) - center
-    total = float(y.sum())
-    squares = float(y @ y)
+    y = np.ldexp(s, -scale_exponent(s))
+
+    def form(lo: int, hi: int) -> tuple[float, int, float, float]:
+        """Sums of (y - c) * 2**-u over y[lo..hi], about a middle value c, scaled near 1."""
+        c = float(y[(lo + hi + 1) // 2])
+        w = y[lo:hi + 1] - c
+        u = scale_exponent(w)
+        if u:
+            w = np.ldexp(w, -u)
+        return c, u, float(w.sum()), float(w @ w)
+
     lo, hi = 0, n - 1
+    c, u, total, squares = form(lo, hi)
+    formed = squares
     order = np.empty(max_outliers, dtype=np.int64)
     stats_ = np.empty(max_outliers)
     for step in range(max_outliers):
         m = n - step
         mean = total / m
+        if squares - total * mean < 1e-4 * formed:
+            c, u, total, squares = form(lo, hi)
+            formed = squares
+            mean = total / m
         var = max((squares - total * mean) / (m - 1), 0.0)
         sd = np.sqrt(var)
-        d_lo, d_hi = mean - y[lo], y[hi] - mean
+        y_lo, y_hi = float(np.ldexp(y[lo] - c, -u)), float(np.ldexp(y[hi] - c, -u))
+        d_lo, d_hi = mean - y_lo, y_hi - mean
         pick = hi if d_hi >= d_lo else lo
         stats_[step] = (max(d_lo, d_hi) / sd) if sd > 0 else 0.0
         order[step] = pick
-        total -= y[pick]
-        squares -= y[pick] * y[pick]
+        gone = y_hi if pick == hi else y_lo
+        total -= gone
+        squares -= gone * gone
         if pick == hi:
             hi -= 1
         else:
