@@ -877,3 +877,22 @@ def test_rows_with_tuple_column_names_use_full_keys(hold) -> None:
         rows = s.rows(which="all")
     assert list(rows.columns) == [("turbidity", "NTU"), ("oxygen", "mg/l"), ("state", ""),
                                   ("score", ""), ("reason", ""), ("note", ""), ("in_mask", "")]
+
+
+@pytest.mark.parametrize("make,kwargs,exc,fragment", [
+    (lambda: pd.Series(good(70), name="v"), {}, TypeError, "wrap a Series with s.to_frame()"),
+    (lambda: np.c_[good(70)], {}, TypeError, "needs a pandas DataFrame"),
+    (pd.DataFrame, {}, ValueError, "has no numeric columns to screen"),
+    (good_frame("v"), {"columns": []}, ValueError, "columns is empty"),
+    (good_frame("v"), {"columns": "w"}, KeyError, "column 'w' is not in the DataFrame"),
+    (good_frame("v"), {"group": "site"}, KeyError, "group column 'site' is not in the"),
+], ids=["a Series", "an array", "no columns", "no column named", "unknown column",
+        "unknown group"])
+def test_what_a_screen_is_made_of_is_checked(make, kwargs, exc, fragment) -> None:
+    data = make()
+    with pytest.raises(exc, match=re.escape(fragment)):
+        strayline.Screen(data, **kwargs)
+    ns: dict = {}
+    with pytest.raises(exc, match=re.escape(fragment)):
+        strayline.panel(data, mask="m", namespace=ns, **kwargs)
+    assert ns == {}
