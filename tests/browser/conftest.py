@@ -10,17 +10,10 @@ from pathlib import Path
 
 import pytest
 
-from lab import CHROMIUM, CHROMIUM_ARGS, TIMINGS, Notebook, write_notebook
+from lab import CHROMIUM, CHROMIUM_ARGS, TIMINGS, ConsoleLog, Notebook, write_notebook
 from servers import JupyterServer
 
 REPO = Path(__file__).resolve().parents[2]
-
-#: Console errors that come from our code (the table bundle, the anywidget loader, the widget
-#: views of the panel); anything else in the console is JupyterLab's and only printed.
-OURS = re.compile(r"strayline|table\.js|anywidget|sl-table|data-strayline|"
-                  r"Could not create (a )?view|Error displaying widget|"
-                  r"Failed to (load|create) (model|view)|Error setting state|"
-                  r"Class \w+ not found in module", re.I)
 
 @pytest.fixture(scope="session")
 def output_dir() -> Path:
@@ -68,31 +61,6 @@ def lab_server(tmp_path_factory: pytest.TempPathFactory) -> Iterator[JupyterServ
 def notebook7_server(tmp_path_factory: pytest.TempPathFactory) -> Iterator[JupyterServer]:
     """`jupyter notebook` (Notebook 7) on its own."""
     yield from _server(tmp_path_factory, "notebook")
-
-
-class ConsoleLog:
-    """Console errors and page errors of one page."""
-
-    def __init__(self) -> None:
-        self.errors: list[str] = []
-
-    def on_console(self, msg: object) -> None:
-        if msg.type == "error":  # type: ignore[attr-defined]
-            loc = msg.location or {}  # type: ignore[attr-defined]
-            self.errors.append(f"console: {msg.text} @ {loc.get('url', '')}")  # type: ignore
-
-    def on_page_error(self, exc: object) -> None:
-        self.errors.append(f"page error: {exc}")
-
-    def ours(self) -> list[str]:
-        return [e for e in self.errors if OURS.search(e)]
-
-    def assert_clean(self) -> None:
-        noise = [e for e in self.errors if not OURS.search(e)]
-        for e in noise:
-            print(f"[console, not ours] {e[:400]}")
-        assert not self.ours(), "errors from strayline in the browser console:\n" + \
-            "\n".join(self.ours())
 
 
 @pytest.hookimpl(wrapper=True, tryfirst=True)

@@ -322,3 +322,36 @@ class Notebook:
         box = self.panel.locator(".widget-inline-hbox").filter(
             has=self.page.locator("label.widget-label", has_text=re.compile(f"^{label}$")))
         return box.locator("input").first
+
+
+#: Console errors that come from our code (the table bundle, the anywidget loader, the widget
+#: views of the panel); anything else in the console is JupyterLab's and only printed.
+OURS = re.compile(r"strayline|table\.js|anywidget|sl-table|data-strayline|"
+                  r"Could not create (a )?view|Error displaying widget|"
+                  r"Failed to (load|create) (model|view)|Error setting state|"
+                  r"Class \w+ not found in module", re.I)
+
+
+class ConsoleLog:
+    """Console errors and page errors of one page."""
+
+    def __init__(self) -> None:
+        self.errors: list[str] = []
+
+    def on_console(self, msg: object) -> None:
+        if msg.type == "error":  # type: ignore[attr-defined]
+            loc = msg.location or {}  # type: ignore[attr-defined]
+            self.errors.append(f"console: {msg.text} @ {loc.get('url', '')}")  # type: ignore
+
+    def on_page_error(self, exc: object) -> None:
+        self.errors.append(f"page error: {exc}")
+
+    def ours(self) -> list[str]:
+        return [e for e in self.errors if OURS.search(e)]
+
+    def assert_clean(self) -> None:
+        noise = [e for e in self.errors if not OURS.search(e)]
+        for e in noise:
+            print(f"[console, not ours] {e[:400]}")
+        assert not self.ours(), "errors from strayline in the browser console:\n" + \
+            "\n".join(self.ours())
