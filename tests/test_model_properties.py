@@ -61,7 +61,7 @@ def frames(draw):
     df = pd.DataFrame(cols)
     if draw(st.booleans()):
         df["Int"] = pd.array(np.where(np.isnan(cols["c0"]), None,
-                                      rng.integers(0, 1000, n)), dtype="Int64")
+                                      rng.integers(1, 1000, n)), dtype="Int64")
     pool = draw(st.integers(1, n))
     kind = draw(st.sampled_from(["int", "str", "multi", "datetime"]))
     codes = rng.integers(0, pool, n)
