@@ -855,6 +855,10 @@ def test_the_panel_survives_a_failing_computation_and_goes_on(hold) -> None:
     pd.testing.assert_series_equal(p.mask, good_state[1])
     pd.testing.assert_series_equal(ns["m"], good_state[1].rename("m"))
     np.testing.assert_array_equal(p.screen.marked_positions(), good_state[2])
+    # a brush that reports no numbers is refused the same way
+    p.brush(float("nan"), 1.0, 0.0, 10.0, "add")
+    assert "a region needs numbers" in p.last_error
+    pd.testing.assert_series_equal(p.mask, good_state[1])
     # and everything still works afterwards
     p.column_select.value = "w"
     assert p.last_error == ""

@@ -359,7 +359,12 @@ def test_code_never_runs_text_from_the_data_or_the_file(where: str, hold) -> Non
     pd.to_timedelta(np.arange(40), unit="min"),
     pd.MultiIndex.from_product([["a", "b"], pd.date_range("2025-01-01", periods=20)]),
     pd.Index([f"dup{i % 7}" for i in range(40)]),
-], ids=["str", "int", "float", "datetime_tz", "timedelta", "multi", "duplicate"])
+    pytest.param(pd.Index([dt.date(2025, 1, 1) + dt.timedelta(days=i) for i in range(40)]),
+                 marks=pytest.mark.xfail(strict=True, reason=(
+                     "bug: encode_label writes a datetime.date label as a timestamp and "
+                     "decode_label reads it back as pd.Timestamp, which an index of date "
+                     "objects does not contain: the hand decisions are lost on replay"))),
+], ids=["str", "int", "float", "datetime_tz", "timedelta", "multi", "duplicate", "date"])
 def test_labels_survive_save_and_load(index: pd.Index, tmp_path: Path, hold) -> None:
     rng = np.random.default_rng(15)
     df = hold(pd.DataFrame({"v": rng.normal(size=40)}, index=index))
