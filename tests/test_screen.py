@@ -821,3 +821,15 @@ def test_a_failed_change_of_group_and_scale_changes_nothing(hold) -> None:
     # and a later group change reaches every column
     s.configure("b", group="site")
     assert s.settings("a").group == "site"
+
+
+@pytest.mark.xfail(strict=True, reason="bug: qq_coordinates() says its arrays are shared and "
+                   "read-only, but ordered and order are the cached evaluation's writable "
+                   "arrays (as is mask_array()): a caller's write changes later selections")
+def test_shared_arrays_cannot_be_written_through(hold) -> None:
+    rng = np.random.default_rng(25)
+    df = hold(pd.DataFrame({"v": rng.normal(size=80)}))
+    s = strayline.Screen(df)
+    v = s.qq_coordinates()
+    for arr in (v.theoretical, v.ordered, v.order, s.mask_array()):
+        assert not arr.flags.writeable
