@@ -9,7 +9,6 @@ from collections.abc import Callable, Iterator
 from pathlib import Path
 
 import pytest
-
 from lab import CHROMIUM, CHROMIUM_ARGS, TIMINGS, ConsoleLog, Notebook, write_notebook
 from servers import JupyterServer
 

@@ -190,7 +190,8 @@ class Notebook:
 
     def menu(self, *path: str) -> None:
         """Click through the menu bar, e.g. ``menu("Run", "Run All Cells")``."""
-        self.page.locator(".lm-MenuBar-itemLabel", has_text=re.compile(f"^{path[0]}$")).first.click()
+        top = re.compile(f"^{path[0]}$")
+        self.page.locator(".lm-MenuBar-itemLabel", has_text=top).first.click()
         for item in path[1:]:
             entry = self.page.locator(".lm-Menu:visible .lm-Menu-item",
                                       has=self.page.locator(".lm-Menu-itemLabel",

@@ -38,7 +38,8 @@ def write_lab_settings(settings_dir: Path, theme: str | None = None) -> None:
         path.parent.mkdir(parents=True, exist_ok=True)
         path.write_text(json.dumps(value))
 
-    put("@jupyterlab/notebook-extension", "tracker", {"windowingMode": "none", "autoStartDefaultKernel": True})
+    put("@jupyterlab/notebook-extension", "tracker",
+        {"windowingMode": "none", "autoStartDefaultKernel": True})
     put("@jupyterlab/apputils-extension", "notification",
         {"fetchNews": "false", "checkForUpdates": False})
     if theme is not None:
@@ -85,7 +86,7 @@ class JupyterServer:
                f"--ServerApp.root_dir={self.root}"]
         if os.geteuid() == 0:
             cmd.append("--allow-root")
-        self._log = open(self.log_path, "wb")  # noqa: SIM115 (closed in stop)
+        self._log = open(self.log_path, "wb")
         self.proc = subprocess.Popen(cmd, cwd=self.root, env=self.env(), stdout=self._log,
                                      stderr=subprocess.STDOUT, start_new_session=True)
         deadline = time.monotonic() + timeout

@@ -4,7 +4,6 @@ very long and right-to-left strings do not break the layout."""
 from __future__ import annotations
 
 import pytest
-
 from lab import Notebook
 
 pytestmark = pytest.mark.browser

@@ -7,9 +7,9 @@ import time
 
 import numpy as np
 import pytest
+from lab import PANEL_CODE, Notebook, record_timing
 
 import strayline
-from lab import PANEL_CODE, Notebook, record_timing
 
 pytestmark = pytest.mark.browser
 

@@ -13,10 +13,10 @@ import time
 
 import numpy as np
 import pytest
+from lab import PANEL_CODE, Notebook, record_timing
 from scipy import stats
 
 import strayline
-from lab import PANEL_CODE, Notebook, record_timing
 
 pytestmark = pytest.mark.browser
 

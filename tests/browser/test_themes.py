@@ -12,7 +12,6 @@ from collections.abc import Iterator
 from pathlib import Path
 
 import pytest
-
 from lab import PANEL_CODE, ConsoleLog, Notebook, contrast, luminance, write_notebook
 
 pytestmark = pytest.mark.browser
@@ -96,6 +95,8 @@ def seen(lab_server, chromium, output_dir) -> Iterator[dict]:
             ".textContent !== String(n)", arg=[nb.table.element_handle(), before])
         nb.wait_not_busy()
         result = {"start": start, "log": log}
+        result["toggles"] = nb.panel.locator(".widget-toggle-buttons button").evaluate_all(
+            "bs => bs.map(b => [b.textContent.trim(), b.scrollWidth, b.clientWidth])")
         result["light"] = nb.table.evaluate(_COLOURS_JS)
         result["light_png"] = shoot(nb, output_dir, "panel-light.png")
         set_theme(nb, "JupyterLab Dark", light=False)
@@ -147,6 +148,17 @@ def test_dark_theme_colours(seen: dict) -> None:
 def test_dark_theme_reference_line_visible(seen: dict) -> None:
     c = seen["dark"]
     assert contrast(c["notebook"], c["reference_line"]) >= 3, c
+
+
+@pytest.mark.xfail(strict=True, reason=(
+    "panel.py gives the brush mode ToggleButtons style={'button_width': '70px'}, too narrow "
+    "for 'Replace' and 'Remove' with JupyterLab's button padding: they show as 'Repla…' and "
+    "'Rem…'"))
+def test_brush_mode_labels_fit(seen: dict) -> None:
+    labels = [t[0] for t in seen["toggles"]]
+    assert labels == ["Replace", "Add", "Remove"], seen["toggles"]
+    clipped = [t for t in seen["toggles"] if t[1] > t[2]]
+    assert clipped == [], f"clipped labels (text, scrollWidth, clientWidth): {clipped}"
 
 
 def test_no_errors_from_our_code(seen: dict) -> None:
