@@ -25,7 +25,7 @@ import re
 import warnings
 from collections.abc import Callable
 from contextlib import contextmanager
-from dataclasses import dataclass, field
+from dataclasses import dataclass
 from pathlib import Path
 from typing import Any
 
@@ -129,21 +129,6 @@ class Case:
     panel: Refused | Gives
     columns: Any = None
     template: Callable[[], pd.DataFrame] | None = None  # the data the ledger was made on
-    bugs: dict[str, str] = field(default_factory=dict)
-
-
-UNFITTABLE = ("bug: a column the starting rule cannot be fitted to (too few values, all NaN, "
-              "zero IQR) makes evaluate() raise lazily: Screen() succeeds but screen.mask, "
-              "rows(), summary() and ledger raise, Ledger.apply raises, the panel cannot open")
-INFINITE = "bug: Ledger.apply flags ±inf silently where the Screen refuses infinite values"
-UNDERFLOW = ("bug: stats.location.moments squares unscaled values: for values near 1e-308 "
-             "m2**2 underflows to 0 and compare_transforms raises ZeroDivisionError")
-OVERFLOW = ("bug: Screen.histogram computes the span o[-1] - o[0], which overflows to inf for "
-            "values spread across ±1e308; np.histogram then raises and the panel cannot open")
-DUPLICATE_APPLY = ("bug: Ledger.apply on a batch with a repeated column name raises TypeError "
-                   "'expected one column, got a DataFrame' instead of naming the repeated column")
-DUPLICATE_ONLY = ("bug: a frame whose numeric columns all have repeated names is refused as "
-                  "'has no numeric columns' instead of saying the names are repeated")
 
 
 def frame(**cols: Any) -> Callable[[], pd.DataFrame]:
@@ -244,36 +229,30 @@ CASES: dict[str, Case] = {
     "empty frame": Case(
         frame(turbidity=pd.Series([], dtype="float64")),
         Gives(nothing, shows="no values"), Gives(nothing, warn="turbidity"),
-        Gives(nothing, shows="no values"), template=good_frame("turbidity"),
-        bugs=dict.fromkeys(("screen", "ledger", "panel"), UNFITTABLE)),
+        Gives(nothing, shows="no values"), template=good_frame("turbidity")),
     "one row": Case(
         frame(turbidity=[12.5]),
         Gives(nothing, shows="at least 4"), Gives(nothing, warn="turbidity"),
-        Gives(nothing, shows="at least 4"), template=good_frame("turbidity"),
-        bugs=dict.fromkeys(("screen", "ledger", "panel"), UNFITTABLE)),
+        Gives(nothing, shows="at least 4"), template=good_frame("turbidity")),
     "all NaN": Case(
         frame(turbidity=np.full(N, np.nan), oxygen=good(12, loc=9.0, sd=0.5)),
         Gives(fences_of("oxygen"), shows="no values"),
         Gives(fences_of("oxygen"), warn="turbidity"),
         Gives(fences_of("oxygen"), shows="no values"),
-        template=good_frame("turbidity", "oxygen"),
-        bugs=dict.fromkeys(("screen", "ledger", "panel"), UNFITTABLE)),
+        template=good_frame("turbidity", "oxygen")),
     "all equal": Case(
         frame(turbidity=np.full(N, 7.25)),
         Gives(nothing, shows="interquartile range is zero"), Gives(nothing, warn="turbidity"),
-        Gives(nothing, shows="interquartile range is zero"), template=good_frame("turbidity"),
-        bugs=dict.fromkeys(("screen", "ledger", "panel"), UNFITTABLE)),
+        Gives(nothing, shows="interquartile range is zero"), template=good_frame("turbidity")),
     "two distinct values": Case(two_values, Gives(T), Gives(T), Gives(T)),
     "+inf": Case(with_inf(np.inf, 1), Refused(ValueError, "holds 1 infinite value"),
                  Refused(ValueError, "infinite"), Refused(ValueError, "holds 1 infinite value"),
-                 template=good_frame("turbidity"), bugs={"ledger": INFINITE}),
+                 template=good_frame("turbidity")),
     "-inf": Case(with_inf(-np.inf, 2), Refused(ValueError, "holds 2 infinite value"),
                  Refused(ValueError, "infinite"), Refused(ValueError, "holds 2 infinite value"),
-                 template=good_frame("turbidity"), bugs={"ledger": INFINITE}),
-    "near 1e308": Case(scaled(1020, False), Gives(T), Gives(T), Gives(T),
-                       bugs={"screen": OVERFLOW, "panel": OVERFLOW}),
-    "near 1e-308": Case(scaled(-1021, True), Gives(T), Gives(T), Gives(T),
-                        bugs={"screen": UNDERFLOW, "panel": UNDERFLOW}),
+                 template=good_frame("turbidity")),
+    "near 1e308": Case(scaled(1020, False), Gives(T), Gives(T), Gives(T)),
+    "near 1e-308": Case(scaled(-1021, True), Gives(T), Gives(T), Gives(T)),
     "text left out by default": Case(strings("str"), Gives(T), Gives(T), Gives(T)),
     "text column named": Case(
         strings(object), Refused(TypeError, "column 'probe' is not numeric"),
@@ -323,12 +302,11 @@ CASES: dict[str, Case] = {
         Refused(ValueError, "'turbidity' appears more than once"),
         Refused(ValueError, "more than once"),
         Refused(ValueError, "'turbidity' appears more than once"), columns="turbidity",
-        template=good_frame("turbidity"), bugs={"ledger": DUPLICATE_APPLY}),
+        template=good_frame("turbidity")),
     "only repeated names": Case(
         repeated_names("turbidity", "turbidity"), Refused(ValueError, "more than once"),
         Refused(ValueError, "more than once"), Refused(ValueError, "more than once"),
-        template=good_frame("turbidity"),
-        bugs={"screen": DUPLICATE_ONLY, "ledger": DUPLICATE_APPLY, "panel": DUPLICATE_ONLY}),
+        template=good_frame("turbidity")),
     **{f"index: {kind}": Case(indexed(kind), Gives(fences_of("turbidity", "oxygen")),
                               Gives(fences_of("turbidity", "oxygen")),
                               Gives(fences_of("turbidity", "oxygen")))
@@ -339,9 +317,7 @@ CASES: dict[str, Case] = {
 def cases(surface: str) -> list:
     out = []
     for name, case in CASES.items():
-        marks = [pytest.mark.xfail(strict=True, reason=case.bugs[surface])] \
-            if surface in case.bugs else []
-        out.append(pytest.param(case, id=name, marks=marks))
+        out.append(pytest.param(case, id=name))
     return out
 
 
@@ -575,7 +551,7 @@ RULE_ERRORS = [
     ("grubbs", {}, 2, ValueError, "Grubbs' test needs at least 3 non-missing values, got 2"),
     ("zscore", {}, 2, ValueError, "the z-score rule needs at least 3 non-missing values"),
     ("robust_z", {}, 2, ValueError, "needs at least 3 non-missing values, got 2"),
-    ("fences", {"k": 3.0}, 3, ValueError, "the fences needs at least 4 non-missing values"),
+    ("fences", {"k": 3.0}, 3, ValueError, "the fence rule needs at least 4 non-missing values"),
     ("fences", {"alpha": 0.1}, 30, TypeError, "rule 'fences' takes ['k'], not ['alpha']"),
     ("iqr", {}, 30, ValueError, "unknown rule 'iqr'"),
 ]
@@ -629,7 +605,6 @@ def test_rule_parameters_are_checked_when_a_ledger_is_read(rule, params, n, exc,
         Ledger.from_dict(doc)
 
 
-@pytest.mark.xfail(strict=True, reason=UNFITTABLE)
 @pytest.mark.parametrize("rule,params,n", [("gesd", {}, 8), ("grubbs", {}, 2),
                                            ("fences", {}, 3)])
 def test_a_rule_that_cannot_be_fitted_on_a_new_batch_warns_and_flags_nothing(rule, params, n,
@@ -721,19 +696,7 @@ FILES = {
     "bound info as text": (edit(lambda d: col(d)["bounds"][0]["info"].update(q1="x")),
                            "columns[0].bounds[0].info"),
 }
-FILE_BUGS = {
-    "bounds removed": "bug: Ledger.from_dict accepts an empty 'bounds' list; apply(refit=False) "
-                      "then raises KeyError(None) instead of a LedgerError at load",
-    "notes null": "bug: Ledger.from_dict with \"notes\": null raises TypeError ('NoneType' "
-                  "object is not iterable) instead of a LedgerError",
-    "bound info as text": "bug: Ledger.from_dict converts bounds[].info values with float() "
-                          "unchecked: a text value raises a bare ValueError without its place",
-}
-
-
-@pytest.mark.parametrize("name", [pytest.param(
-    n, marks=[pytest.mark.xfail(strict=True, reason=FILE_BUGS[n])] if n in FILE_BUGS else [])
-    for n in FILES])
+@pytest.mark.parametrize("name", list(FILES))
 def test_a_broken_ledger_file_is_a_clear_error_and_no_mask(name: str, tmp_path: Path,
                                                            hold) -> None:
     text, fragment = FILES[name]
@@ -804,9 +767,6 @@ def test_rules_are_exact_near_the_limits_of_floating_point(rule, exponent, posit
     np.testing.assert_allclose(b.evaluation().scores, a.evaluation().scores, rtol=1e-12)
 
 
-@pytest.mark.xfail(strict=True, reason="bug: stats.location.moments and qq.fit_line square "
-                   "unscaled values: near 1e308 the SD is inf and the PPCC NaN, near 1e-301 the "
-                   "SD is 0, near 1e-308 summary() raises ZeroDivisionError")
 @pytest.mark.parametrize("exponent,positive", [(1020, False), (-1000, False), (-1021, True)],
                          ids=["near 1e308", "near 1e-301", "near 1e-308"])
 def test_summary_is_exact_near_the_limits_of_floating_point(exponent, positive, hold) -> None:
@@ -827,9 +787,6 @@ def test_summary_is_exact_near_the_limits_of_floating_point(exponent, positive, 
 # --- the panel survives ----------------------------------------------------------------------
 
 
-@pytest.mark.xfail(strict=True, reason="bug: Screen's default columns include a numeric group "
-                   "column, and Panel's group dropdown leaves screened columns out, so "
-                   "panel(df, group='batch') raises traitlets.TraitError at creation")
 def test_a_numeric_group_column_opens_in_the_panel(hold) -> None:
     rng = np.random.default_rng(52)
     df = hold(pd.DataFrame({"batch": np.repeat([1, 2, 3], 40), "v": rng.normal(size=120)}))
@@ -870,9 +827,6 @@ def test_the_panel_survives_a_failing_computation_and_goes_on(hold) -> None:
     assert p.undo_button.disabled is False
 
 
-@pytest.mark.xfail(strict=True, reason="bug: Screen.rows adds its columns to a frame with "
-                   "tuple (MultiIndex) column names by a bare string key, which pandas "
-                   "deprecates (Pandas4Warning) and will refuse")
 def test_rows_with_tuple_column_names_use_full_keys(hold) -> None:
     df = hold(pd.DataFrame({("turbidity", "NTU"): good(60), ("oxygen", "mg/l"): good(61)}))
     s = strayline.Screen(df)

@@ -255,8 +255,6 @@ def test_group_wise_rule_on_a_new_batch_is_refitted_per_group(hold) -> None:
     np.testing.assert_array_equal(m.to_numpy(), expected)
 
 
-@pytest.mark.xfail(strict=True, reason="bug: with refit=False a group that was not in the "
-                   "screened data is silently never flagged; no LedgerWarning names it")
 def test_frozen_bounds_warn_about_a_group_they_do_not_know(hold) -> None:
     first = hold(frame(200, "string", 8))
     second = hold(frame(200, "string", 9).assign(site=lambda d: d["site"].replace(
@@ -329,9 +327,6 @@ def test_code_handles_nullable_columns_and_odd_column_names(hold) -> None:
         pd.testing.assert_series_equal(ledger.apply(df), s.mask)
 
 
-@pytest.mark.xfail(strict=True, reason="bug: to_code writes the column name and the ledger's "
-                   "'created' text into the source unescaped (a comment line and a docstring), "
-                   "so a hand-edited ledger or a column name with a newline injects code")
 @pytest.mark.parametrize("where", ["column", "created"])
 def test_code_never_runs_text_from_the_data_or_the_file(where: str, hold) -> None:
     rng = np.random.default_rng(14)
@@ -359,11 +354,7 @@ def test_code_never_runs_text_from_the_data_or_the_file(where: str, hold) -> Non
     pd.to_timedelta(np.arange(40), unit="min"),
     pd.MultiIndex.from_product([["a", "b"], pd.date_range("2025-01-01", periods=20)]),
     pd.Index([f"dup{i % 7}" for i in range(40)]),
-    pytest.param(pd.Index([dt.date(2025, 1, 1) + dt.timedelta(days=i) for i in range(40)]),
-                 marks=pytest.mark.xfail(strict=True, reason=(
-                     "bug: encode_label writes a datetime.date label as a timestamp and "
-                     "decode_label reads it back as pd.Timestamp, which an index of date "
-                     "objects does not contain: the hand decisions are lost on replay"))),
+    pytest.param(pd.Index([dt.date(2025, 1, 1) + dt.timedelta(days=i) for i in range(40)])),
 ], ids=["str", "int", "float", "datetime_tz", "timedelta", "multi", "duplicate", "date"])
 def test_labels_survive_save_and_load(index: pd.Index, tmp_path: Path, hold) -> None:
     rng = np.random.default_rng(15)
@@ -379,8 +370,6 @@ def test_labels_survive_save_and_load(index: pd.Index, tmp_path: Path, hold) -> 
         pd.testing.assert_series_equal(loaded.apply(df), s.mask)
 
 
-@pytest.mark.xfail(strict=True, reason="bug: encode_label writes a NaN index label as "
-                   "{'float': nan}, which json.dumps(allow_nan=False) refuses")
 def test_a_nan_index_label_survives_save_and_load(tmp_path: Path, hold) -> None:
     rng = np.random.default_rng(16)
     df = hold(pd.DataFrame({"v": rng.normal(size=30)}, index=[np.nan, *range(29)]))
@@ -390,9 +379,6 @@ def test_a_nan_index_label_survives_save_and_load(tmp_path: Path, hold) -> None:
     assert np.isnan(loaded.columns[0].marks[0].label)
 
 
-@pytest.mark.xfail(strict=True, reason="bug: the Screen holds a read-only view of the user's "
-                   "float64 column; when the user edits the frame in place afterwards, the "
-                   "ledger records the edited value as 'the value seen'")
 def test_the_value_seen_is_the_value_when_the_decision_was_taken() -> None:
     rng = np.random.default_rng(17)
     df = pd.DataFrame({"v": rng.normal(10, 1, 50)})
@@ -452,9 +438,6 @@ def test_a_save_replaces_the_file(saved) -> None:
     assert sorted(p.name for p in path.parent.iterdir()) == ["ledger.json"]
 
 
-@pytest.mark.xfail(strict=True, reason="bug: save writes through tempfile.mkstemp, so the "
-                   "ledger (a file meant to be handed on) gets mode 0600 instead of the mode "
-                   "a plain write would give (0666 & ~umask)")
 def test_a_saved_ledger_has_the_permissions_of_an_ordinary_file(tmp_path: Path) -> None:
     ledger = strayline.Screen(pd.DataFrame({"v": np.random.default_rng(19).normal(size=20)})
                               ).ledger

@@ -268,8 +268,6 @@ def test_labels_that_are_not_in_the_index_are_refused_by_name(hold) -> None:
     assert s.marked_positions().size == 0 and not s.can_undo
 
 
-@pytest.mark.xfail(strict=True, reason="bug: a partial MultiIndex key raises a confusing "
-                   "ValueError from pandas instead of a KeyError naming the label")
 def test_a_partial_multiindex_key_is_refused_by_name(hold) -> None:
     rng = np.random.default_rng(2)
     df = hold(pd.DataFrame({"v": rng.normal(size=10)},
@@ -519,8 +517,6 @@ def test_group_column_of_any_kind(make_group, hold) -> None:
     np.testing.assert_array_equal(s.mask.to_numpy(), expected)
 
 
-@pytest.mark.xfail(strict=True, reason="bug: with columns=None the group column itself is "
-                   "screened when it is numeric (a batch number is not a measurement)")
 def test_default_columns_leave_out_the_group_column(hold) -> None:
     rng = np.random.default_rng(10)
     df = hold(pd.DataFrame({"batch": np.repeat([1, 2, 3], 30), "v": rng.normal(size=90)}))
@@ -712,9 +708,6 @@ def test_rows_do_not_clobber_a_column_called_state(hold) -> None:
     pd.testing.assert_series_equal(rows["state"], df["state"])
 
 
-@pytest.mark.xfail(strict=True, reason="bug: on the reciprocal scale the reason names the "
-                   "fence in original units but keeps the direction of the reciprocal scale "
-                   "('0.087 is above the upper fence 0.23')")
 def test_reason_direction_agrees_with_the_number_it_shows_on_a_decreasing_scale(hold) -> None:
     rng = np.random.default_rng(2)
     raw = rng.lognormal(size=200)
@@ -789,9 +782,6 @@ def test_summary_with_values_that_log_cannot_take_names_why(hold) -> None:
     assert by["yeojohnson"].error == ""
 
 
-@pytest.mark.xfail(strict=True, reason="bug: note_positions records an undo step even when "
-                   "the text is unchanged (the table resends a note when its input loses "
-                   "focus), so Undo first takes back invisible no-op steps")
 def test_a_note_that_changes_nothing_is_not_recorded(hold) -> None:
     df = hold(pd.DataFrame({"v": measurements(np.random.default_rng(23), 60)}))
     s = strayline.Screen(df)
@@ -803,9 +793,6 @@ def test_a_note_that_changes_nothing_is_not_recorded(hold) -> None:
     assert s.marked_positions().size == 0  # the mark is what Undo takes back
 
 
-@pytest.mark.xfail(strict=True, reason="bug: Screen.configure's rollback compares tuples that "
-                   "hold the group codes array ((codes, labels, group) != saved), which raises "
-                   "'truth value of an array is ambiguous' and leaves the group half changed")
 def test_a_failed_change_of_group_and_scale_changes_nothing(hold) -> None:
     rng = np.random.default_rng(24)
     n = 90
@@ -823,9 +810,6 @@ def test_a_failed_change_of_group_and_scale_changes_nothing(hold) -> None:
     assert s.settings("a").group == "site"
 
 
-@pytest.mark.xfail(strict=True, reason="bug: qq_coordinates() says its arrays are shared and "
-                   "read-only, but ordered and order are the cached evaluation's writable "
-                   "arrays (as is mask_array()): a caller's write changes later selections")
 def test_shared_arrays_cannot_be_written_through(hold) -> None:
     rng = np.random.default_rng(25)
     df = hold(pd.DataFrame({"v": rng.normal(size=80)}))

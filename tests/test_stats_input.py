@@ -149,8 +149,8 @@ def test_infinite_message_names_the_column():
 @pytest.mark.parametrize("call, needed, what", [
     (strayline.zscores, 3, "the z-score rule"),
     (strayline.robust_zscores, 3, "the robust z-score rule"),
-    (strayline.fences, 4, "the fences"),
-    (strayline.adjusted_fences, 4, "the fences"),
+    (strayline.fences, 4, "the fence rule"),
+    (strayline.adjusted_fences, 4, "the fence rule"),
     (strayline.grubbs, 3, "Grubbs' test"),
     (lambda x: strayline.gesd(x, 1), 3, "the generalized ESD test"),
     (strayline.qq, 3, "a Q–Q plot"),
@@ -158,7 +158,7 @@ def test_infinite_message_names_the_column():
     (lambda x: strayline.transform(x, "boxcox"), 3, "fitting Box–Cox λ"),
     (lambda x: strayline.transform(x, "yeojohnson"), 3, "fitting Yeo–Johnson λ"),
     (lambda x: strayline.flag(x, "zscore"), 3, "the z-score rule"),
-    (lambda x: strayline.flag(x, "fences"), 4, "the fences"),
+    (lambda x: strayline.flag(x, "fences"), 4, "the fence rule"),
     (lambda x: strayline.flag(x, "grubbs"), 3, "Grubbs' test"),
 ])
 def test_too_few_values_names_how_many(call, needed, what):

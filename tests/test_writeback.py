@@ -102,10 +102,6 @@ def test_it_overwrites_its_own_earlier_mask(shell) -> None:
     pd.testing.assert_series_equal(shell.user_ns["suspect"], a_mask(seed=2))
 
 
-@pytest.mark.xfail(strict=True, reason="bug: write_mask recognises its own masks by a tag in "
-                   "Series.attrs, which pandas copies to results such as ~mask or mask.copy(), "
-                   "so a variable the user derived from a mask is overwritten without "
-                   "overwrite=True")
 def test_a_variable_the_user_derived_from_a_mask_is_not_its_own(shell) -> None:
     ns = shell.user_ns
     strayline.write_mask("suspect", a_mask(seed=1))

@@ -14,7 +14,7 @@ from .stats import __all__ as _stats_all
 from .view.writeback import write_mask
 
 
-def panel(*args, **kwargs):  # noqa: ANN002, ANN003, ANN201
+def panel(*args, **kwargs):
     """Show the screening panel for a DataFrame; see :class:`strayline.view.panel.Panel`."""
     from .view.panel import panel as _panel
 

@@ -12,8 +12,8 @@ from typing import Any
 
 import numpy as np
 
-from .stats.transform import DECREASING, TRANSFORMS, fit, inverse
 from .stats.rules import RULES, Bounds, check_rule, describe_rule, scores_for, sorted_bounds
+from .stats.transform import DECREASING, TRANSFORMS, fit, inverse
 
 
 @dataclass(frozen=True)
@@ -181,10 +181,8 @@ def evaluate(raw: np.ndarray, settings: Settings, *, group_codes: np.ndarray | N
     frozen : bounds to reuse instead of fitting the rule (by group label; None for overall):
         values strictly outside them are flagged.
 
-    Raises
-    ------
-    ValueError
-        When the column as a whole cannot be screened (no group column), with the reason.
+    A column (or group) that the rule cannot screen (too few values, no spread) flags nothing;
+    its ``GroupBounds.error`` says why.
     """
     if prepared is None:
         prepared = prepare(raw, settings.transform, settings.lmbda)
@@ -198,14 +196,21 @@ def evaluate(raw: np.ndarray, settings: Settings, *, group_codes: np.ndarray | N
     groups: list[GroupBounds] = []
     if group_codes is None:
         if frozen is not None:
+            if None not in frozen:
+                raise ValueError("no recorded bounds for the whole column")
             g = frozen[None]
+            if g.error:
+                return Evaluation(settings, prepared, flagged, scores, None, (g,))
             b = _bounds_of(g)
             groups.append(g)
             with np.errstate(invalid="ignore"):
                 flagged = (values < g.lower) | (values > g.upper)
         else:
-            b = sorted_bounds(prepared.ordered, rule, params)
-            groups.append(_as_group(None, prepared.ordered.size, b, ""))
+            fitted, error = _fit_group(prepared.ordered, rule, params)
+            groups.append(_as_group(None, prepared.ordered.size, fitted, error))
+            if fitted is None:  # the column cannot be screened: nothing is flagged, and why
+                return Evaluation(settings, prepared, flagged, scores, None, tuple(groups))
+            b = fitted
             flagged[prepared.order[b.flagged]] = True
         scores = scores_for(values, rule, b)
         return Evaluation(settings, prepared, flagged, scores, None, tuple(groups))
@@ -261,8 +266,11 @@ def reasons(ev: Evaluation, positions: np.ndarray) -> list[str]:
             name = "fence" if s.rule == "fences" else "skew-adjusted fence"
             bound = g.upper if above else g.lower
             shown = float(inverse(np.array([bound]), kind, s.lmbda)[0])
-            side = "upper" if above else "lower"
-            out.append(f"{'above' if above else 'below'} the {side} {name} {_fmt(shown)}"
+            # a scale that reverses the order (reciprocal) turns its upper fence into a lower
+            # bound in original units: say it the way the number shown reads
+            high = above != (kind in DECREASING)
+            side = "upper" if high else "lower"
+            out.append(f"{'above' if high else 'below'} the {side} {name} {_fmt(shown)}"
                        f" (k = {params['k']:g}{scale}){where}")
         elif s.rule in ("zscore", "robust_z"):
             name = "z" if s.rule == "zscore" else "robust z"

@@ -43,13 +43,15 @@ def encode_label(label: Any) -> Any:
     if isinstance(label, (int, np.integer)):
         return int(label)
     if isinstance(label, (float, np.floating)):
-        return {"float": float(label)} if not np.isfinite(label) else float(label)
+        return {"float": repr(float(label))} if not np.isfinite(label) else float(label)
     if isinstance(label, str):
         return label
     if isinstance(label, pd.Timestamp):
         return {"timestamp": label.isoformat()}
-    if isinstance(label, (_dt.datetime, _dt.date)):
+    if isinstance(label, _dt.datetime):
         return {"timestamp": pd.Timestamp(label).isoformat()}
+    if isinstance(label, _dt.date):
+        return {"date": label.isoformat()}
     if isinstance(label, pd.Timedelta):
         return {"timedelta": label.isoformat()}
     if isinstance(label, tuple):
@@ -72,6 +74,8 @@ def decode_label(value: Any, where: str = "label") -> Any:
                 return bool(v)
             if tag == "float":
                 return float(v)
+            if tag == "date":
+                return _dt.date.fromisoformat(v)
             if tag == "timestamp":
                 return pd.Timestamp(v)
             if tag == "timedelta":
@@ -185,6 +189,13 @@ class Ledger:
                 fh.write(text)
                 fh.flush()
                 os.fsync(fh.fileno())
+            try:
+                mode = path.stat().st_mode & 0o777
+            except FileNotFoundError:
+                umask = os.umask(0)
+                os.umask(umask)
+                mode = 0o666 & ~umask
+            os.chmod(tmp, mode)
             os.replace(tmp, path)
         except BaseException:
             Path(tmp).unlink(missing_ok=True)
@@ -249,15 +260,23 @@ class Ledger:
                     v = need(b, key, (int, float, type(None)), w)
                     nums[key] = float("nan") if v is None else float(v)
                 label = b.get("group")
+                info = need(b, "info", dict, w)
+                bad = [k for k, v in info.items()
+                       if v is not None and (isinstance(v, bool) or not isinstance(v, (int, float)))]
+                if bad:
+                    raise LedgerError(f"{source}: {w}.info.{bad[0]}: expected a number, got "
+                                      f"{info[bad[0]]!r}"[:300])
                 bounds.append(ev.GroupBounds(
                     None if label is None else decode_label(label, f"{w}.group"),
                     int(need(b, "n", int, w)), nums["lower"], nums["upper"], nums["center"],
                     nums["scale_lo"], nums["scale_hi"],
-                    {k: float("nan") if v is None else float(v)
-                     for k, v in need(b, "info", dict, w).items()},
+                    {k: float("nan") if v is None else float(v) for k, v in info.items()},
                     str(b.get("error", ""))))
+            if settings.group is None and not any(g.label is None for g in bounds):
+                raise LedgerError(f"{source}: {where}.bounds: no bounds for the whole column "
+                                  "(an entry with \"group\": null)")
 
-            def decisions(key: str, where: str = where) -> tuple[Decision, ...]:
+            def decisions(key: str, where: str = where, c: Any = c) -> tuple[Decision, ...]:
                 out = []
                 for j, d in enumerate(need(c, key, list, where)):
                     v = need(d, "value", (int, float, type(None)), f"{where}.{key}[{j}]")
@@ -270,9 +289,12 @@ class Ledger:
                                                           where), f"{where}.column"),
                                         settings, tuple(bounds), decisions("marks"),
                                         decisions("keeps")))
+        raw_notes = doc.get("notes", [])
+        if not isinstance(raw_notes, list):
+            raise LedgerError(f"{source}: notes: expected a list, got {raw_notes!r}"[:300])
         notes = tuple((decode_label(need(n, "label", (int, float, str, dict), f"notes[{k}]")),
                        str(need(n, "text", str, f"notes[{k}]")))
-                      for k, n in enumerate(doc.get("notes", [])))
+                      for k, n in enumerate(raw_notes))
         return cls(tuple(records), notes, str(doc.get("library", "")), str(doc.get("created", "")),
                    str(doc.get("comment", "")))
 
@@ -289,10 +311,21 @@ class Ledger:
         absent = [r.column for r in self.columns if r.column not in df.columns]
         if absent:
             raise LedgerError(f"the data lack screened column(s) {absent}; no mask was made")
+        needed = [r.column for r in self.columns] + [r.settings.group for r in self.columns
+                                                     if r.settings.group is not None]
+        repeated = sorted({str(c) for c in needed if int((df.columns == c).sum()) > 1})
+        if repeated:
+            raise LedgerError(f"{repeated[0]!r} appears more than once in the data's columns; "
+                              "rename the duplicates so that each screened column is "
+                              "unambiguous; no mask was made")
         mask = np.zeros(len(df), dtype=bool)
         problems: list[str] = []
         for r in self.columns:
             raw = to_float(df[r.column], name=r.column)
+            infinite = int(np.isinf(raw).sum())
+            if infinite:
+                raise LedgerError(f"column {r.column!r} holds {infinite} infinite value(s); "
+                                  "replace them with NaN or a bound first; no mask was made")
             codes = labels = None
             s = r.settings
             if s.group is not None:
@@ -304,6 +337,12 @@ class Ledger:
             if not refit:
                 frozen = {g.label: g for g in r.bounds}
             e = ev.evaluate(raw, s, group_codes=codes, group_labels=labels, frozen=frozen)
+            for g in e.groups:
+                # a whole column that cannot be screened, or a group the frozen bounds never saw
+                unseen = frozen is not None and g.label is not None and g.label not in frozen
+                if g.error and (g.label is None or (unseen and g.n > 0)):
+                    where = "" if g.label is None else f" group {g.label!s}:"
+                    problems.append(f"{r.column!s}:{where} not screened: {g.error}")
             marked = np.zeros(len(df), dtype=bool)
             kept = np.zeros(len(df), dtype=bool)
             for decisions, target, what in ((r.marks, marked, "mark"), (r.keeps, kept, "keep")):
@@ -334,14 +373,16 @@ class Ledger:
         label and the recorded value both match exactly; unlike :meth:`apply` it does not warn
         about the decisions it cannot replay)."""
         lines = [
+            "import datetime",
+            "",
             "import numpy as np",
             "import pandas as pd",
             "import strayline",
             "",
             "",
             f"def {function}(df):",
-            f'    """Rebuild the screening mask (ledger of {self.created}, strayline '
-            f'{self.library})."""',
+            f"    # rebuilds the screening mask of the ledger of {_one_line(self.created)}, "
+            f"strayline {_one_line(self.library)}",
             "    mask = np.zeros(len(df), dtype=bool)",
         ]
         helper = [
@@ -360,7 +401,7 @@ class Ledger:
         ]
         for r in self.columns:
             s = r.settings
-            lines.append(f"    # {r.column!s}: {s.describe()}")
+            lines.append(f"    # {_one_line(str(r.column))}: {s.describe()}")
             lines.append(f"    x = strayline.stats.transform(df[{r.column!r}], {s.transform!r}"
                          + (f", lmbda={s.lmbda!r}" if s.lmbda is not None else "") + ").values")
             lines.append("    x = np.asarray(x, dtype=float)")
@@ -393,6 +434,11 @@ class Ledger:
         return f"Ledger({cols}; strayline {self.library}, {self.created})"
 
 
+def _one_line(text: str) -> str:
+    """Text safe inside a one-line comment of generated code."""
+    return repr(str(text))[1:-1][:200]
+
+
 def _positions(index: pd.Index, label: Any) -> np.ndarray:
     try:
         loc = index.get_loc(label)
@@ -414,10 +460,15 @@ def _literal(labels: list[Any], pairs: bool = False) -> str:
         if isinstance(v, tuple):
             inner = ", ".join(one(x) for x in v)
             return f"({inner}{',' if len(v) == 1 else ''})"
+        if isinstance(v, _dt.date) and not isinstance(v, _dt.datetime):
+            return f"datetime.date.fromisoformat({v.isoformat()!r})"
+        if isinstance(v, (bool, np.bool_)):
+            return repr(bool(v))
         if isinstance(v, (np.integer,)):
             return repr(int(v))
-        if isinstance(v, (np.floating,)):
-            return repr(float(v))
+        if isinstance(v, (float, np.floating)):
+            f = float(v)
+            return repr(f) if np.isfinite(f) else f"float({repr(f)!r})"
         return repr(v)
 
     if pairs:

@@ -11,11 +11,11 @@ import numpy as np
 import pandas as pd
 
 from . import evaluate as ev
-from .stats.transform import DECREASING, TRANSFORMS, fit, inverse
 from .stats._input import to_float
 from .stats.location import moments, sorted_median, sorted_quantile
 from .stats.normality import Normality, normality_sorted
 from .stats.qq import fit_line, normal_quantiles
+from .stats.transform import DECREASING, TRANSFORMS, fit
 
 if TYPE_CHECKING:
     from .ledger import Ledger
@@ -109,6 +109,12 @@ class _NoteChange:
     after: str | None
 
 
+def _frozen(a: np.ndarray) -> np.ndarray:
+    v = a.view()
+    v.flags.writeable = False
+    return v
+
+
 def _numeric_columns(df: pd.DataFrame) -> list[Hashable]:
     repeated = set(df.columns[df.columns.duplicated()])
     return [name for name, dtype in df.dtypes.items()
@@ -141,8 +147,12 @@ class Screen:
         self._df = df
         self._n = len(df)
         if columns is None:
-            cols = _numeric_columns(df)
+            cols = [c for c in _numeric_columns(df) if group is None or c != group]
             if not cols:
+                repeated = sorted({str(c) for c in df.columns[df.columns.duplicated()]})
+                if repeated:
+                    raise ValueError(f"no numeric column can be screened: the names {repeated} "
+                                     "appear more than once; rename them (df.columns = [...])")
                 raise ValueError("the DataFrame has no numeric columns to screen; pass "
                                  "columns=[...] naming them, or convert text with pd.to_numeric")
         elif isinstance(columns, (list, tuple, pd.Index)) and not (
@@ -155,7 +165,10 @@ class Screen:
         self._raw: dict[Hashable, np.ndarray] = {}
         for c in cols:
             self._check_label(c, "column")
-            self._raw[c] = to_float(df[c], name=c)
+            raw = to_float(df[c], name=c)
+            if np.shares_memory(raw, df[c].array):
+                raw = raw.copy()  # later edits of the frame must not reach the screen's state
+            self._raw[c] = raw
             inf = np.isinf(self._raw[c])
             if inf.any():
                 raise ValueError(f"column {c!r} holds {int(inf.sum())} infinite value(s); "
@@ -251,6 +264,11 @@ class Screen:
         if not labels:
             return np.empty(0, dtype=np.int64)
         if isinstance(index, pd.MultiIndex):
+            short = [lab for lab in labels
+                     if not isinstance(lab, tuple) or len(lab) != index.nlevels]
+            if short:
+                raise KeyError(f"the index has {index.nlevels} levels; give each label as a "
+                               f"tuple of {index.nlevels} values, e.g. not {short[0]!r}")
             wanted = pd.MultiIndex.from_tuples(labels, names=index.names)
         else:
             wanted = pd.Index(labels)
@@ -278,6 +296,7 @@ class Screen:
         if new.group != self._group and new.group is not None:
             self._check_label(new.group, "group column")
         saved = (self._group_codes, self._group_labels, self._group)
+        group_before = self._group
         if new.group != self._group:
             if new.group is None:
                 self._group_codes, self._group_labels, self._group = None, [], None
@@ -291,9 +310,11 @@ class Screen:
         self._evals.pop(c, None)
         try:
             result = self.evaluation(c)
+            if result.group_codes is None and result.bounds.error:
+                raise ValueError(f"column {c!r} cannot be screened so: {result.bounds.error}")
         except Exception:
             self._settings[c] = old
-            if (self._group_codes, self._group_labels, self._group) != saved:
+            if self._group != group_before:
                 self._group_codes, self._group_labels, self._group = saved
                 for other in self._columns:
                     self._settings[other] = self._settings[other].update(group=saved[2])
@@ -360,6 +381,7 @@ class Screen:
             out = np.zeros(self._n, dtype=bool)
             for c in self._columns:
                 out |= self._contribution(c)
+            out.flags.writeable = False
             self._mask = out
         return self._mask
 
@@ -396,6 +418,15 @@ class Screen:
         self.version += 1
 
     # --- hand decisions -------------------------------------------------------------------------
+
+    def _checked_positions(self, positions: Any) -> np.ndarray:
+        positions = np.asarray(positions)
+        if positions.size and positions.dtype.kind not in "iu":
+            raise TypeError(f"row positions must be whole numbers, got {positions.dtype}")
+        positions = positions.astype(np.int64).ravel()
+        if positions.size and (positions.min() < 0 or positions.max() >= self._n):
+            raise IndexError(f"row positions must lie in 0..{self._n - 1}")
+        return positions
 
     def _apply(self, c: Hashable, positions: np.ndarray, marked: np.ndarray | bool,
                kept: np.ndarray | bool) -> int:
@@ -447,13 +478,13 @@ class Screen:
         return self.clear_positions(self.positions_of(labels), column)
 
     def mark_positions(self, positions: Any, column: Hashable | None = None) -> int:
-        return self._apply(self._col(column), np.asarray(positions, dtype=np.int64), True, False)
+        return self._apply(self._col(column), self._checked_positions(positions), True, False)
 
     def keep_positions(self, positions: Any, column: Hashable | None = None) -> int:
-        return self._apply(self._col(column), np.asarray(positions, dtype=np.int64), False, True)
+        return self._apply(self._col(column), self._checked_positions(positions), False, True)
 
     def clear_positions(self, positions: Any, column: Hashable | None = None) -> int:
-        return self._apply(self._col(column), np.asarray(positions, dtype=np.int64), False, False)
+        return self._apply(self._col(column), self._checked_positions(positions), False, False)
 
     def region_positions(self, x0: float, x1: float, y0: float, y1: float,
                          column: Hashable | None = None) -> np.ndarray:
@@ -512,7 +543,10 @@ class Screen:
         self.note_positions(self.positions_of(labels), text)
 
     def note_positions(self, positions: Any, text: str | None) -> None:
-        positions = np.asarray(positions, dtype=np.int64)
+        positions = self._checked_positions(positions)
+        positions = positions[[self._notes.get(int(p)) != (text or None) for p in positions]]
+        if not positions.size:
+            return  # nothing changes: no step to undo
         change = _NoteChange(positions, [self._notes.get(int(p)) for p in positions], text or None)
         self._do(change)
         self._undo.append(change)
@@ -607,9 +641,11 @@ class Screen:
             "in_mask": self.mask_array()[positions],
         }
         for name, values in extra.items():
-            label = name
+            label: Any = name
             while label in out.columns:
                 label = f"{label}_"
+            if isinstance(out.columns, pd.MultiIndex):  # full-length keys for tuple names
+                label = (label,) + ("",) * (out.columns.nlevels - 1)
             out[label] = values
         return out
 
@@ -645,7 +681,7 @@ class Screen:
         best = max(valid, key=lambda t: t.ppcc).kind if valid else ""
         nan = float("nan")
         if n == 0:
-            out = Summary(c, ev.scale_name(s.transform), 0, self._n, *([nan] * 10), None,
+            out = Summary(c, ev.scale_name(s.transform), 0, self._n, *([nan] * 9), None,
                           comparison, best, "no values")
         else:
             m = moments(o)
@@ -701,7 +737,7 @@ class Screen:
             o = e.prepared.ordered
             m = normal_quantiles(o.size, "filliben") if o.size else np.empty(0)
             slope, intercept, r = fit_line(m, o) if o.size >= 3 else (np.nan, np.nan, np.nan)
-            cached = QQView(m, o, e.prepared.order, slope, intercept, r)
+            cached = QQView(_frozen(m), _frozen(o), _frozen(e.prepared.order), slope, intercept, r)
             if len(self._qq) > 8:
                 self._qq.clear()
             self._qq[key] = cached
@@ -731,13 +767,16 @@ class Screen:
         o = v.ordered
         if o.size == 0 or o[0] == o[-1]:
             lo = float(o[0]) if o.size else 0.0
-            edges = np.array([lo - 0.5, lo + 0.5])
+            half = max(abs(lo) * 1e-3, 0.5) if np.isfinite(lo * 1e3) else abs(lo) * 1e-3
+            edges = np.array([lo - half, lo + half])
         else:
-            iqr = sorted_quantile(o, 0.75) - sorted_quantile(o, 0.25)
+            # spans near the largest float would overflow: work in halves, which is exact
+            iqr = sorted_quantile(o, 0.75) / 2 - sorted_quantile(o, 0.25) / 2
             width = 2 * iqr / np.cbrt(o.size) if iqr > 0 else 0.0
-            span = float(o[-1] - o[0])
+            span = float(o[-1] / 2 - o[0] / 2)
             bins = int(np.clip(np.ceil(span / width) if width > 0 else 10, 5, max_bins))
-            edges = np.linspace(o[0], o[-1], bins + 1)
+            edges = np.linspace(o[0] / 2, o[-1] / 2, bins + 1) * 2
+            edges[0], edges[-1] = o[0], o[-1]
         counts = np.histogram(o, edges)[0]
         e = self.evaluation(c)
         marked = e.prepared.values[self._marked[c] & ~np.isnan(e.prepared.values)]

@@ -63,6 +63,11 @@ class Moments:
     excess_kurtosis: float
 
 
+def _exponent(values: np.ndarray) -> int:
+    biggest = float(np.max(np.abs(values))) if values.size else 0.0
+    return int(np.frexp(biggest)[1]) if 0.0 < biggest < np.inf else 0
+
+
 def moments(values: np.ndarray) -> Moments:
     """Mean, SD, G1 and G2 in three passes over the data.
 
@@ -73,13 +78,20 @@ def moments(values: np.ndarray) -> Moments:
     n = values.size
     if n == 0:
         return Moments(0, np.nan, np.nan, np.nan, np.nan)
-    mean = float(values.mean())
-    d = values - mean
+    # two exact power-of-two scalings (of the values, then of the deviations) keep the sums of
+    # squares and fourth powers finite and normal from 1e-308 to 1e308
+    e1 = _exponent(values)
+    scaled = np.ldexp(values, -e1)
+    mean_s = float(scaled.mean())
+    d = scaled - mean_s
+    e2 = _exponent(d)
+    d = np.ldexp(d, -e2, out=d)
     d2 = d * d
     m2 = float(d2.sum()) / n
     m3 = float(d2 @ d) / n
     m4 = float(d2 @ d2) / n
-    sd = float(np.sqrt(m2 * n / (n - 1))) if n > 1 else np.nan
+    mean = float(np.ldexp(mean_s, e1))
+    sd = float(np.ldexp(np.sqrt(m2 * n / (n - 1)), e1 + e2)) if n > 1 else np.nan
     skew = kurt = np.nan
     if m2 > 0 and n > 2:
         skew = float(np.sqrt(n * (n - 1.0)) / (n - 2.0) * m3 / m2**1.5)

@@ -114,12 +114,12 @@ def _select(u: np.ndarray, v: np.ndarray, r: int,
     lo = np.zeros(p, dtype=index)
     hi = np.full(p, q, dtype=index)
     rng = np.random.default_rng(20080801)
-    while True:
+    for rounds in range(10**6):
         w = hi - lo
         total = int(w.sum())
         below = int(lo.sum())
         k = r - below
-        if total <= enumerate_limit:
+        if total <= enumerate_limit or rounds >= 200:
             rows = np.repeat(np.arange(p, dtype=lo.dtype), w)
             starts = np.cumsum(w) - w
             cols = (np.arange(total) - starts[rows]).astype(lo.dtype)
@@ -137,15 +137,16 @@ def _select(u: np.ndarray, v: np.ndarray, r: int,
                 return float(vals[k]), float(vals[k + 1])
             return float(np.partition(vals, k)[k]), None
         cw = np.cumsum(w)
-        draws = rng.integers(0, total, size=_SAMPLE)
+        size = int(min(_SAMPLE, 4 * total))  # a sample larger than the candidates adds nothing
+        draws = rng.integers(0, total, size=size)
         rows = np.searchsorted(cw, draws, side="right")
         cols = lo[rows] + (draws - (cw[rows] - w[rows]))
         del cw
         sample = np.sort(_kernel(u[rows], v[cols]))
         f = k / total
-        spread = int(3.5 * np.sqrt(_SAMPLE * f * (1 - f))) + 2
-        t_lo = float(sample[max(0, int(f * _SAMPLE) - spread)])
-        t_hi = float(sample[min(_SAMPLE - 1, int(f * _SAMPLE) + spread)])
+        spread = int(3.5 * np.sqrt(size * f * (1 - f))) + 2
+        t_lo = float(sample[max(0, int(f * size) - spread)])
+        t_hi = float(sample[min(size - 1, int(f * size) + spread)])
         lt_lo = _cut(u, v, t_lo, True, lo, hi)
         if r < lt_lo.sum():
             hi = lt_lo
@@ -165,6 +166,7 @@ def _select(u: np.ndarray, v: np.ndarray, r: int,
         if r >= lt_hi.sum():
             return t_hi, None
         lo, hi = le_lo, lt_hi
+    raise AssertionError("unreachable")  # pragma: no cover
 
 
 def _next_above(u: np.ndarray, v: np.ndarray, t: float) -> float:

@@ -114,7 +114,7 @@ class AdjustedFences:
 def sorted_fences(s: np.ndarray, k: float = 1.5) -> Fences:
     """:func:`fences` for ascending values with no missing values."""
     k = check_positive(k, "k")
-    require(s.size, 4, "the fences")
+    require(s.size, 4, "the fence rule")
     q1 = sorted_quantile(s, 0.25)
     q3 = sorted_quantile(s, 0.75)
     iqr = q3 - q1

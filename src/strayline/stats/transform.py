@@ -38,6 +38,12 @@ class Transformed:
         return f"Transformed(kind={self.kind!r}{lm}, n={np.size(self.values)})"
 
 
+def _zero(lmbda: float) -> bool:
+    """λ so close to 0 that (x^λ - 1)/λ is log x to double precision (its products with log x
+    would be subnormal and lose every digit)."""
+    return abs(lmbda) < 1e-150
+
+
 def check_domain(values: np.ndarray, kind: str) -> None:
     """Refuse values outside the domain of *kind*, naming how many and what to do instead."""
     if kind in ("log", "boxcox"):
@@ -165,14 +171,14 @@ def apply(values: np.ndarray, kind: str, lmbda: float | None) -> np.ndarray:
         return 1.0 / values
     assert lmbda is not None
     if kind == "boxcox":
-        return np.log(values) if lmbda == 0 else np.expm1(lmbda * np.log(values)) / lmbda
+        return np.log(values) if _zero(lmbda) else np.expm1(lmbda * np.log(values)) / lmbda
     out = np.empty_like(values)
     pos = values >= 0
     neg = values < 0
     a = np.log1p(values[pos])
-    out[pos] = a if lmbda == 0 else np.expm1(lmbda * a) / lmbda
+    out[pos] = a if _zero(lmbda) else np.expm1(lmbda * a) / lmbda
     b = np.log1p(-values[neg])
-    out[neg] = -b if lmbda == 2 else -np.expm1((2 - lmbda) * b) / (2 - lmbda)
+    out[neg] = -b if _zero(2 - lmbda) else -np.expm1((2 - lmbda) * b) / (2 - lmbda)
     out[np.isnan(values)] = np.nan
     return out
 
@@ -190,7 +196,7 @@ def inverse(y: np.ndarray, kind: str, lmbda: float | None) -> np.ndarray:
         return 1.0 / y
     assert lmbda is not None
     if kind == "boxcox":
-        if lmbda == 0:
+        if _zero(lmbda):
             return np.exp(y)
         with np.errstate(invalid="ignore"):
             return np.exp(np.log1p(lmbda * y) / lmbda)
@@ -198,9 +204,9 @@ def inverse(y: np.ndarray, kind: str, lmbda: float | None) -> np.ndarray:
     pos = y >= 0
     neg = y < 0
     with np.errstate(invalid="ignore"):
-        out[pos] = np.expm1(y[pos]) if lmbda == 0 else np.expm1(np.log1p(lmbda * y[pos]) / lmbda)
+        out[pos] = np.expm1(y[pos]) if _zero(lmbda) else np.expm1(np.log1p(lmbda * y[pos]) / lmbda)
         two = 2 - lmbda
-        out[neg] = (-np.expm1(-y[neg]) if two == 0
+        out[neg] = (-np.expm1(-y[neg]) if _zero(two)
                     else -np.expm1(np.log1p(-two * y[neg]) / two))
     return out
 

@@ -15,7 +15,7 @@ PLAIN_COLOUR = "#6B7682"
 FLAGGED_COLOUR = "#C8571B"
 MARKED_COLOUR = "#1F4E9C"
 KEPT_COLOUR = "#1B8A7A"
-LINE_COLOUR = "#4A4F57"
+LINE_COLOUR = "#8A919B"
 FOCUS_COLOUR = "#B0126B"
 
 _FIG = {"fig_margin": {"top": 16, "bottom": 40, "left": 60, "right": 12},

@@ -93,7 +93,7 @@ class Panel(W.VBox):
                                            tooltips=["the brush replaces the marks",
                                                      "the brush adds to the marks",
                                                      "the brush takes marks away"],
-                                           style={"button_width": "70px"})
+                                           style={"button_width": "88px"})
         self.undo_button = W.Button(description="Undo", icon="undo", layout=W.Layout(width="80px"))
         self.redo_button = W.Button(description="Redo", icon="repeat",
                                     layout=W.Layout(width="80px"))
@@ -184,7 +184,7 @@ class Panel(W.VBox):
     # --- plumbing -----------------------------------------------------------------------------
 
     @contextmanager
-    def _busy(self, what: str):  # noqa: ANN202
+    def _busy(self, what: str):
         t0 = time.perf_counter()
         self.table.busy = True
         try:
@@ -396,6 +396,14 @@ class Panel(W.VBox):
 
     def _refresh_all(self) -> None:
         t0 = time.perf_counter()
+        unscreened = [g for g in self.screen.evaluation().groups if (g.error and g.n > 0)
+                      or (g.error and g.label is None)]
+        if unscreened:
+            where = "this column" if unscreened[0].label is None else (
+                f"{len(unscreened)} group(s), e.g. {unscreened[0].label!s}")
+            self.status.value = html.escape(f"Not screened in {where}: {unscreened[0].error}")
+        elif not self.last_error:
+            self.status.value = ""
         self._refresh_points()
         self._refresh_lines()
         self._refresh_histogram()

@@ -2,12 +2,14 @@
 
 from __future__ import annotations
 
+import weakref
 from typing import Any
 
 import pandas as pd
 
-#: Attribute set on every Series this module writes, so that it can recognise its own.
-_TAG = "_strayline_mask"
+#: The Series this module wrote, by variable name: only those may be replaced without asking
+#: (a tag in ``Series.attrs`` would not do: pandas copies attrs onto derived results).
+_WRITTEN: dict[tuple[int, str], weakref.ref[pd.Series]] = {}
 
 
 def _user_namespace() -> dict[str, Any]:
@@ -22,8 +24,12 @@ def _user_namespace() -> dict[str, Any]:
     return shell.user_ns
 
 
-def is_written_mask(value: Any) -> bool:
-    return isinstance(value, pd.Series) and bool(value.attrs.get(_TAG, False))
+def is_written_mask(value: Any, name: str | None = None, namespace: dict | None = None) -> bool:
+    """Whether *value* is the very Series that :func:`write_mask` put there."""
+    if name is None or namespace is None:
+        return any(ref() is value for ref in _WRITTEN.values())
+    ref = _WRITTEN.get((id(namespace), name))
+    return ref is not None and ref() is value
 
 
 def write_mask(name: str, series: pd.Series, *, overwrite: bool = False,
@@ -43,10 +49,10 @@ def write_mask(name: str, series: pd.Series, *, overwrite: bool = False,
     if not isinstance(series, pd.Series) or not pd.api.types.is_bool_dtype(series.dtype):
         raise TypeError("write_mask writes a boolean pandas Series")
     ns = _user_namespace() if namespace is None else namespace
-    if name in ns and not overwrite and not is_written_mask(ns[name]):
+    if name in ns and not overwrite and not is_written_mask(ns[name], name, ns):
         raise ValueError(f"the notebook already has a variable {name!r} that strayline did not "
                          "write; choose another mask name or pass overwrite=True")
     out = series.copy()
     out.name = name
-    out.attrs[_TAG] = True
     ns[name] = out
+    _WRITTEN[(id(ns), name)] = weakref.ref(out)
