@@ -7,7 +7,7 @@ BIN    := $(VENV)/bin
 ROOT   := $(if $(filter 0,$(shell id -u)),--allow-root,)
 STAMP  := $(VENV)/.installed
 
-.PHONY: setup demo test test-python test-js browser-deps bench screenshots clean
+.PHONY: setup demo test test-python test-js bench-check browser-deps bench screenshots clean
 
 $(BIN)/python:
 	$(PYTHON) -m venv $(VENV)
@@ -36,10 +36,14 @@ test-js:
 test-python: setup browser-deps
 	$(BIN)/python -m pytest --nbval --nbval-current-env --nbval-sanitize-with tests/nbval_sanitize.cfg tests example_notebooks
 
-test: setup browser-deps test-js test-python
+bench-check: setup
+	$(BIN)/python benchmarks/run.py --quick --check
+
+# the Python suite runs last, so that its summary closes the output
+test: setup browser-deps test-js bench-check test-python
 
 bench: setup
-	$(BIN)/python benchmarks/run.py --quick
+	$(BIN)/python benchmarks/run.py
 
 screenshots: setup browser-deps
 	STRAYLINE_SCREENSHOTS=docs $(BIN)/python -m pytest tests/browser -k themes

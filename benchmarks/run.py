@@ -5,7 +5,9 @@
 Each line prints the median of several repeats, the baseline and their ratio beside the target,
 with "ok" or "SHORT". Timings on a shared machine are noisy; ratios against a baseline measured
 in the same run are what to read. ``--check`` exits non-zero when a target marked as stable at
-small sizes is missed (CI runs ``--quick --check``).
+small sizes is missed: λ agreeing with scipy, the exact ESD statistics and the bytes sent to the
+browser (CI runs ``--quick --check``); speed ratios are printed, never checked, as timings on a
+shared machine are noisy.
 """
 
 from __future__ import annotations
@@ -26,9 +28,9 @@ from scipy import stats as sps
 
 import strayline
 from strayline.stats import location, rules
+from strayline.stats.medcouple import medcouple_sorted
 from strayline.stats.normality import normality_sorted
 from strayline.stats.qq import fit_line, normal_quantiles
-from strayline.stats.medcouple import medcouple_sorted
 from strayline.stats.transform import boxcox_lambda, yeojohnson_lambda
 
 FAILURES: list[str] = []
@@ -126,8 +128,8 @@ def bench_gesd(n: int, r: int, rng: np.random.Generator) -> None:
     t = timed(lambda: rules.gesd(x, r), 3)
     base = timed(lambda: naive_gesd(x, r), 1)
     np.testing.assert_allclose(rules.gesd(x, r).statistics, naive_gesd(x, r), rtol=1e-9)
-    report("gesd", n, t, base, "loop recomputing SD", ">= 50x faster", base / t >= 50,
-           stable=True)
+    report("gesd", n, t, base, "loop recomputing SD", ">= 50x faster (1e6)",
+           None if n < 10**6 else base / t >= 50)
 
 
 def bench_lambda(n: int, rng: np.random.Generator) -> None:
@@ -137,15 +139,22 @@ def bench_lambda(n: int, rng: np.random.Generator) -> None:
     base = timed(lambda: sps.boxcox(x), 3)
     diff = abs(boxcox_lambda(x) - sps.boxcox(x)[1])
     report("boxcox lambda", n, t, base, "scipy.stats.boxcox", ">= 5x faster",
-           base / t >= 5 and diff < 1e-4, stable=True)
-    print(f"  |lambda - scipy| = {diff:.2e} (target < 1e-4)")
+           base / t >= 5)
+    _agrees("boxcox", diff)
     y = x - 1.2
     t = timed(lambda: yeojohnson_lambda(y), 3)
     base = timed(lambda: sps.yeojohnson(y), 3)
     diff = abs(yeojohnson_lambda(y) - sps.yeojohnson(y)[1])
     report("yeojohnson lambda", n, t, base, "scipy.stats.yeojohnson", ">= 5x faster",
-           base / t >= 5 and diff < 1e-4, stable=True)
-    print(f"  |lambda - scipy| = {diff:.2e} (target < 1e-4)")
+           base / t >= 5)
+    _agrees("yeojohnson", diff)
+
+
+def _agrees(name: str, diff: float) -> None:
+    ok = diff < 1e-4
+    print(f"  |lambda - scipy| = {diff:.2e}  target < 1e-4  {'ok' if ok else 'SHORT'}")
+    if not ok:
+        FAILURES.append(f"{name} lambda differs from scipy by {diff:.2e}")
 
 
 def bench_region(sizes: list[int], rng: np.random.Generator) -> None:

@@ -141,19 +141,11 @@ def test_dark_theme_colours(seen: dict) -> None:
         assert contrast(c["notebook"], c[part]) > 4.5, (part, c)
 
 
-@pytest.mark.xfail(strict=True, reason=(
-    "figures.py draws the Q–Q reference line, its band, the histogram's normal curve and the "
-    "box plot in the fixed LINE_COLOUR #4A4F57, which on JupyterLab Dark's #111111 has a "
-    "contrast of about 2.3:1, under the 3:1 that WCAG 2 (1.4.11) asks for lines one must see"))
 def test_dark_theme_reference_line_visible(seen: dict) -> None:
     c = seen["dark"]
     assert contrast(c["notebook"], c["reference_line"]) >= 3, c
 
 
-@pytest.mark.xfail(strict=True, reason=(
-    "panel.py gives the brush mode ToggleButtons style={'button_width': '70px'}, too narrow "
-    "for 'Replace' and 'Remove' with JupyterLab's button padding: they show as 'Repla…' and "
-    "'Rem…'"))
 def test_brush_mode_labels_fit(seen: dict) -> None:
     labels = [t[0] for t in seen["toggles"]]
     assert labels == ["Replace", "Add", "Remove"], seen["toggles"]

@@ -94,6 +94,8 @@ class Panel(W.VBox):
                                                      "the brush adds to the marks",
                                                      "the brush takes marks away"],
                                            style={"button_width": "88px"})
+        self.band_toggle = W.Checkbox(value=True, description="95% band", indent=False,
+                                      layout=W.Layout(width="110px"))
         self.undo_button = W.Button(description="Undo", icon="undo", layout=W.Layout(width="80px"))
         self.redo_button = W.Button(description="Redo", icon="repeat",
                                     layout=W.Layout(width="80px"))
@@ -121,7 +123,7 @@ class Panel(W.VBox):
             W.HBox([self.column_select, self.group_select, self.transform_select,
                     self.rule_select, self.param_input, self.max_input],
                    layout=W.Layout(flex_flow="row wrap")),
-            W.HBox([self.mode_select, self.undo_button, self.redo_button],
+            W.HBox([self.mode_select, self.undo_button, self.redo_button, self.band_toggle],
                    layout=W.Layout(flex_flow="row wrap", align_items="center")),
         ])
         plots = W.HBox([W.Box([self.qq.figure], layout=W.Layout(flex="3 1 420px")),
@@ -141,6 +143,8 @@ class Panel(W.VBox):
         self.param_input.observe(self._on_settings, "value")
         self.max_input.observe(self._on_settings, "value")
         self.qq.brush.observe(self._on_brushing, "brushing")
+        self.band_toggle.observe(lambda ch: setattr(self.qq.band, "visible", bool(ch["new"])),
+                                 "value")
         self.undo_button.on_click(lambda _: self._guard(self._undo))
         self.redo_button.on_click(lambda _: self._guard(self._redo))
         self.save_button.on_click(lambda _: self._guard(self._save))
