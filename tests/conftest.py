@@ -6,8 +6,11 @@ import json
 from typing import Any
 
 import comm
+import pandas as pd
 import pytest
 from comm.base_comm import BaseComm
+
+from frames import assert_same_frame
 
 
 class RecordingComm(BaseComm):
@@ -31,3 +34,17 @@ def comm_log(monkeypatch: pytest.MonkeyPatch) -> list[tuple[str, int]]:
     RecordingComm.log = []
     monkeypatch.setattr(comm, "create_comm", lambda *a, **k: RecordingComm(*a, **k))
     return RecordingComm.log
+
+
+@pytest.fixture
+def hold():
+    """hold(df) registers a user frame; after the test it must equal its deep copy."""
+    held: list[tuple[pd.DataFrame, pd.DataFrame]] = []
+
+    def _hold(df: pd.DataFrame) -> pd.DataFrame:
+        held.append((df, df.copy(deep=True)))
+        return df
+
+    yield _hold
+    for df, before in held:
+        assert_same_frame(df, before)

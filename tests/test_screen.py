@@ -29,17 +29,10 @@ from hypothesis import strategies as st
 from scipy import stats
 
 import strayline
+from frames import assert_same_frame
 from strayline.screen import FLAGGED, MISSING
 
 # --- the user's frame is never modified -----------------------------------------------------
-
-
-def assert_same_frame(df: pd.DataFrame, before: pd.DataFrame) -> None:
-    pd.testing.assert_frame_equal(df, before, check_exact=True, check_index_type=True,
-                                  check_column_type=True, check_freq=True, check_flags=True)
-    assert list(df.dtypes) == list(before.dtypes)
-    assert df.index.equals(before.index) and df.index.dtype == before.index.dtype
-    assert list(df.index.names) == list(before.index.names)
 
 
 @contextmanager
@@ -48,20 +41,6 @@ def untouched(*frames: pd.DataFrame):
     yield
     for f, c in zip(frames, copies, strict=True):
         assert_same_frame(f, c)
-
-
-@pytest.fixture
-def hold():
-    """hold(df) registers a user frame; after the test it must equal its deep copy."""
-    held: list[tuple[pd.DataFrame, pd.DataFrame]] = []
-
-    def _hold(df: pd.DataFrame) -> pd.DataFrame:
-        held.append((df, df.copy(deep=True)))
-        return df
-
-    yield _hold
-    for df, before in held:
-        assert_same_frame(df, before)
 
 
 # --- references -------------------------------------------------------------------------------

@@ -57,7 +57,8 @@ class Settings:
         params = {k: v for k, v in self.params if k in RULES[rule]}
         params.update(dict(changes.get("params", ())))
         params.update(extra)
-        if "transform" in direct and direct["transform"] != self.transform and "lmbda" not in direct:
+        new_scale = "transform" in direct and direct["transform"] != self.transform
+        if new_scale and "lmbda" not in direct:
             direct["lmbda"] = None
         return replace(self, **direct, params=tuple(params.items()))
 

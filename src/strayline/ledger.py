@@ -261,8 +261,8 @@ class Ledger:
                     nums[key] = float("nan") if v is None else float(v)
                 label = b.get("group")
                 info = need(b, "info", dict, w)
-                bad = [k for k, v in info.items()
-                       if v is not None and (isinstance(v, bool) or not isinstance(v, (int, float)))]
+                bad = [k for k, v in info.items() if v is not None
+                       and (isinstance(v, bool) or not isinstance(v, (int, float)))]
                 if bad:
                     raise LedgerError(f"{source}: {w}.info.{bad[0]}: expected a number, got "
                                       f"{info[bad[0]]!r}"[:300])

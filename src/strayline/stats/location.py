@@ -96,5 +96,6 @@ def moments(values: np.ndarray) -> Moments:
     if m2 > 0 and n > 2:
         skew = float(np.sqrt(n * (n - 1.0)) / (n - 2.0) * m3 / m2**1.5)
     if m2 > 0 and n > 3:
-        kurt = float((n - 1.0) / ((n - 2.0) * (n - 3.0)) * ((n + 1.0) * m4 / m2**2 - 3.0 * (n - 1.0)))
+        kurt = float((n - 1.0) / ((n - 2.0) * (n - 3.0))
+                     * ((n + 1.0) * m4 / m2**2 - 3.0 * (n - 1.0)))
     return Moments(n, mean, sd, skew, kurt)

@@ -211,7 +211,8 @@ def inverse(y: np.ndarray, kind: str, lmbda: float | None) -> np.ndarray:
     return out
 
 
-def fit(values: np.ndarray, kind: str, lmbda: float | None = None) -> tuple[np.ndarray, float | None]:
+def fit(values: np.ndarray, kind: str,
+        lmbda: float | None = None) -> tuple[np.ndarray, float | None]:
     """Check the domain, fit λ when needed, and transform clean float values."""
     if kind not in TRANSFORMS:
         raise ValueError(f"unknown transformation {kind!r}; choose one of {TRANSFORMS}")

@@ -74,9 +74,10 @@ class Panel(W.VBox):
         self.column_select = W.Dropdown(options=[(str(c), c) for c in screen.columns],
                                         value=screen.column, description="Column",
                                         layout=W.Layout(width="220px"))
-        group_options = [("(none)", None)] + [(str(c), c) for c in df.columns
-                                               if c not in screen.columns
-                                               and list(df.columns).count(c) == 1][:500]
+        repeated = set(df.columns[df.columns.duplicated()])
+        group_options = [("(none)", None), *[(str(c), c) for c in df.columns
+                                             if c not in screen.columns
+                                             and c not in repeated][:500]]
         self.group_select = W.Dropdown(options=group_options, value=screen.group,
                                        description="By group", layout=W.Layout(width="220px"))
         self.transform_select = W.Dropdown(options=[(TRANSFORM_LABELS[t], t) for t in TRANSFORMS],
@@ -499,16 +500,20 @@ class Panel(W.VBox):
         sm = self.screen.summary()
         e = html.escape
         if sm.n == 0:
-            self.summary_html.value = f"<div class='sl-summary-box'>{e(str(sm.column))}: no values</div>"
+            self.summary_html.value = (f"<div class='sl-summary-box'>{e(str(sm.column))}: "
+                                       "no values</div>")
             return
         nm = sm.normality
         tests = []
         if nm is not None:
             if nm.shapiro is not None:
-                tests.append(f"Shapiro–Wilk W = {nm.shapiro.statistic:.4f}, p = {nm.shapiro.pvalue:.3g}")
-            tests.append(f"Anderson–Darling A² = {nm.anderson.statistic:.3f}, p ≈ {nm.anderson.pvalue:.3g}")
+                tests.append(f"Shapiro–Wilk W = {nm.shapiro.statistic:.4f}, "
+                             f"p = {nm.shapiro.pvalue:.3g}")
+            tests.append(f"Anderson–Darling A² = {nm.anderson.statistic:.3f}, "
+                         f"p ≈ {nm.anderson.pvalue:.3g}")
             if nm.dagostino is not None:
-                tests.append(f"D'Agostino K² = {nm.dagostino.statistic:.3g}, p = {nm.dagostino.pvalue:.3g}")
+                tests.append(f"D'Agostino K² = {nm.dagostino.statistic:.3g}, "
+                             f"p = {nm.dagostino.pvalue:.3g}")
             tests.append(f"PPCC r = {nm.ppcc:.4f}")
         rows = "".join(
             f"<tr data-transform='{e(t.kind)}'><td>{e(TRANSFORM_LABELS[t.kind])}</td>"
