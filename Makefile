@@ -7,7 +7,7 @@ BIN    := $(VENV)/bin
 ROOT   := $(if $(filter 0,$(shell id -u)),--allow-root,)
 STAMP  := $(VENV)/.installed
 
-.PHONY: setup demo test test-python test-js bench-check browser-deps bench screenshots clean
+.PHONY: setup demo test test-python test-js lint bench-check browser-deps bench screenshots clean
 
 $(BIN)/python:
 	$(PYTHON) -m venv $(VENV)
@@ -36,11 +36,14 @@ test-js:
 test-python: setup browser-deps
 	$(BIN)/python -m pytest --nbval --nbval-current-env --nbval-sanitize-with tests/nbval_sanitize.cfg tests example_notebooks
 
+lint: setup
+	$(BIN)/ruff check src benchmarks
+
 bench-check: setup
 	$(BIN)/python benchmarks/run.py --quick --check
 
 # the Python suite runs last, so that its summary closes the output
-test: setup browser-deps test-js bench-check test-python
+test: setup browser-deps lint test-js bench-check test-python
 
 bench: setup
 	$(BIN)/python benchmarks/run.py

@@ -81,9 +81,9 @@ def bench_full(sizes: list[int], rng: np.random.Generator) -> None:
     for n in sizes:
         x = rng.lognormal(size=n)
         reps = 3 if n >= 10**7 else 5
-        base = timed(lambda: np.sort(x), reps)
+        base = timed(lambda x=x: np.sort(x), reps)
         normal_quantiles(n)  # depends on n alone: cached, as in the panel
-        t = timed(lambda: full_screen(x), reps)
+        t = timed(lambda x=x: full_screen(x), reps)
         report("full screen", n, t, base, "numpy.sort", "<= 3x slower (1e6+)",
                None if n < 10**6 else t / base <= 3)
 
@@ -100,12 +100,12 @@ def bench_medcouple(sizes: list[int], rng: np.random.Generator, quick: bool) -> 
 
     for n in sizes:
         s = np.sort(rng.lognormal(size=n))
-        t = timed(lambda: medcouple_sorted(s), 3 if n >= 10**6 else 5)
+        t = timed(lambda s=s: medcouple_sorted(s), 3 if n >= 10**6 else 5)
         if n <= 20_000:
-            base = timed(lambda: pairwise_medcouple(s), 1)
+            base = timed(lambda s=s: pairwise_medcouple(s), 1)
             report("medcouple", n, t, base, "pairwise O(n^2)", "faster", t < base)
         if n <= (20_000 if quick else 200_000):
-            base = timed(lambda: sm_medcouple(s), 1)
+            base = timed(lambda s=s: sm_medcouple(s), 1)
             report("medcouple", n, t, base, "statsmodels", "faster", t < base)
         if n >= 10**7:
             print(f"{'medcouple at 1e7':<34} {t:.2f} s  target under 5 s  "
@@ -169,22 +169,23 @@ def bench_region(sizes: list[int], rng: np.random.Generator) -> None:
         s = strayline.Screen(df)
         s.mask_array()
         x = df["x"].to_numpy()
-        base = timed(lambda: (x > 1.0) | (x < -1.0), 5)
+        base = timed(lambda x=x: (x > 1.0) | (x < -1.0), 5)
         flip = iter(range(10**9))
 
-        def region() -> None:
+        def region(s: strayline.Screen = s, flip: Any = flip) -> None:
             k = next(flip) % 2
             s.mark_region(0.5 + k * 0.1, 2.0, -10, 10, mode="replace")
 
         t = timed(region, 5)
         report("mark_region", n, t, base, "numpy boolean pass", "<= 5x slower", t / base <= 5)
 
-        def mask() -> None:
+        def mask(s: strayline.Screen = s) -> None:
             s._changed("x")
             s.mask_array()
 
         t = timed(mask, 5)
-        report("mask recomputation", n, t, base, "numpy boolean pass", "<= 5x slower", t / base <= 5)
+        report("mask recomputation", n, t, base, "numpy boolean pass", "<= 5x slower",
+               t / base <= 5)
 
 
 def bench_bytes(sizes: list[int], rng: np.random.Generator) -> None:
