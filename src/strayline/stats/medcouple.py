@@ -120,11 +120,13 @@ def _select(u: np.ndarray, v: np.ndarray, r: int,
         below = int(lo.sum())
         k = r - below
         if total <= enumerate_limit or rounds >= 200:
-            rows = np.repeat(np.arange(p, dtype=lo.dtype), w)
-            starts = np.cumsum(w) - w
-            cols = (np.arange(total) - starts[rows]).astype(lo.dtype)
-            cols += lo[rows]
-            del starts
+            active = np.flatnonzero(w)  # only rows with candidates left: no arrays of size p
+            counts = w[active]
+            rows = np.repeat(active.astype(lo.dtype), counts)
+            cols = np.arange(total, dtype=lo.dtype)
+            cols -= np.repeat((np.cumsum(counts) - counts).astype(lo.dtype), counts)
+            cols += np.repeat(lo[active], counts)
+            del active, counts
             left = u[rows]
             right = v[cols]
             del rows, cols
@@ -194,12 +196,15 @@ def medcouple_sorted(s: np.ndarray, *, enumerate_limit: int = _ENUMERATE) -> flo
     n_minus = k * v.size + k * (k - 1) // 2
     n_plus = u.size * k + k * (k - 1) // 2
     interior = u.size * v.size
-    # pairs with h < 0 (v_j < -u_i, exact) and h == 0 (v_j == -u_i)
-    neg_cut = np.searchsorted(v, -u[::-1], side="left")
-    neg = int(neg_cut.sum())
-    hit = np.flatnonzero(neg_cut < v.size)
-    hit = hit[v[neg_cut[hit]] == -u[::-1][hit]]
-    zero = int((np.searchsorted(v, -u[::-1][hit], side="right") - neg_cut[hit]).sum())
+    # pairs with h < 0 (v_j < -u_i, exact) and h == 0 (v_j == -u_i), by blocks of rows
+    neg = zero = 0
+    for start in range(0, u.size, _BLOCK):
+        keys = -u[start:start + _BLOCK][::-1]
+        cut = np.searchsorted(v, keys, side="left")
+        neg += int(cut.sum())
+        hit = np.flatnonzero(cut < v.size)
+        hit = hit[v[cut[hit]] == keys[hit]]
+        zero += int((np.searchsorted(v, keys[hit], side="right") - cut[hit]).sum())
 
     def locate(r: int) -> tuple[float, int | None]:
         """A constant value for global rank r, or None and the rank among interior pairs."""

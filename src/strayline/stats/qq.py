@@ -52,16 +52,37 @@ def plotting_positions(n: int, positions: str = "filliben") -> np.ndarray:
 
 @lru_cache(maxsize=8)
 def _normal_quantiles(n: int, positions: str) -> np.ndarray:
-    p = plotting_positions(n, positions)
+    # every rule is symmetric, p_{n+1-i} = 1 - p_i, so only the lower half is computed and the
+    # upper half mirrors it
     half = (n + 1) // 2
     m = np.empty(n)
-    m[:half] = special.ndtri(p[:half])
-    # every rule above is symmetric, p_{n+1-i} = 1 - p_i, so the upper half mirrors the lower
+    lower = m[:half]
+    lower[:] = plotting_positions(half, positions) if n == half else _lower_positions(
+        n, half, positions)
+    special.ndtri(lower, out=lower)
     m[half:] = -m[: n - half][::-1]
     if n % 2:
         m[half - 1] = 0.0
     m.flags.writeable = False
     return m
+
+
+def _lower_positions(n: int, half: int, positions: str) -> np.ndarray:
+    """p_1..p_half of :func:`plotting_positions` for n values, without forming all n."""
+    p = np.arange(1, half + 1, dtype=float)
+    if positions == "filliben":
+        p -= 0.3175
+        p /= n + 0.365
+        p[0] = 1.0 - 0.5 ** (1.0 / n)
+    elif positions == "blom":
+        p -= 0.375
+        p /= n + 0.25
+    elif positions == "weibull":
+        p /= n + 1.0
+    else:
+        p -= 0.5
+        p /= n
+    return p
 
 
 def normal_quantiles(n: int, positions: str = "filliben") -> np.ndarray:
@@ -99,18 +120,28 @@ class QQ:
                 f"intercept={self.intercept:.6g}, r={self.r:.6f}, positions={self.positions!r})")
 
 
+_BLOCK = 1 << 18
+
+
 def fit_line(theoretical: np.ndarray, ordered: np.ndarray) -> tuple[float, float, float]:
     """Least-squares line of ordered on theoretical and their correlation (slope, intercept, r),
-    as ``scipy.stats.probplot(..., fit=True)`` computes them."""
-    e = scale_exponent(ordered)  # exact scaling, so that sums of squares cannot overflow
-    ordered = np.ldexp(ordered, -e)
-    mx = theoretical.mean()
-    my = ordered.mean()
-    dx = theoretical - mx
-    dy = ordered - my
-    sxx = float(dx @ dx)
-    sxy = float(dx @ dy)
-    syy = float(dy @ dy)
+    as ``scipy.stats.probplot(..., fit=True)`` computes them.
+
+    The sums of squared and crossed deviations are formed block by block on values scaled by one
+    power of two (exact), so nothing overflows and the working memory stays small."""
+    e = scale_exponent(ordered)
+    n = ordered.size
+    mx = float(theoretical.mean())
+    my = float(np.ldexp(ordered, -e).mean()) if n <= _BLOCK else float(
+        sum(np.ldexp(ordered[i:i + _BLOCK], -e).sum() for i in range(0, n, _BLOCK)) / n)
+    sxx = sxy = syy = 0.0
+    for i in range(0, n, _BLOCK):
+        dx = theoretical[i:i + _BLOCK] - mx
+        dy = np.ldexp(ordered[i:i + _BLOCK], -e)
+        dy -= my
+        sxx += float(dx @ dx)
+        sxy += float(dx @ dy)
+        syy += float(dy @ dy)
     slope = sxy / sxx
     intercept = float(my - slope * mx)
     r = sxy / np.sqrt(sxx * syy) if syy > 0 else np.nan

@@ -140,7 +140,9 @@ def fences(x: Any, k: float = 1.5) -> Fences:
 def sorted_adjusted_fences(s: np.ndarray, k: float = 1.5) -> AdjustedFences:
     """:func:`adjusted_fences` for ascending values with no missing values."""
     base = sorted_fences(s, k)
-    mc = medcouple_sorted(np.ldexp(s, -scale_exponent(s)))  # scale-free; no overflow in h
+    e = scale_exponent(s)
+    # the medcouple is scale-free: near the float limits work on exactly rescaled values
+    mc = medcouple_sorted(s if -500 < e < 500 else np.ldexp(s, -e))
     a, b = (-4.0, 3.0) if mc >= 0 else (-3.0, 4.0)
     return AdjustedFences(q1=base.q1, q3=base.q3, iqr=base.iqr,
                           lower=base.q1 - base.k * np.exp(a * mc) * base.iqr,
@@ -502,25 +504,33 @@ def _kept_extremes(s: np.ndarray, flagged: np.ndarray, center: float, sd: float,
 def scores_for(values: np.ndarray, rule: str, b: Bounds) -> np.ndarray:
     """Score of each value under a rule's result (vectorised; NaN stays NaN).
 
-    Computed on values and bounds scaled by one power of two (exact), so that differences
-    such as x - center cannot overflow near the largest float.
+    Near the limits of the floating-point range the values and bounds are first scaled by one
+    power of two (exact), so that differences such as x - center cannot overflow; elsewhere the
+    scores are formed in one output array without copies of the data.
     """
     refs = [b.center, b.scale_lo, b.scale_hi, b.info.get("box_lo", 0.0),
             b.info.get("box_hi", 0.0)]
-    present = values[~np.isnan(values)]
-    biggest = max([float(np.max(np.abs(present))) if present.size else 0.0,
-                   *(abs(r) for r in refs if np.isfinite(r))])
+    with np.errstate(invalid="ignore"):
+        top = float(np.nanmax(np.abs([np.nanmax(values), np.nanmin(values)]))) \
+            if values.size and not np.isnan(values).all() else 0.0
+    biggest = max([top, *(abs(r) for r in refs if np.isfinite(r))])
     e = int(np.frexp(biggest)[1]) if 0.0 < biggest < np.inf else 0
-    values = np.ldexp(values, -e)
-    center, scale_lo, scale_hi = (np.ldexp(r, -e) for r in refs[:3])
+    if -500 < e < 500:
+        e = 0  # nothing can overflow or lose precision: no scaled copy needed
+    else:
+        values = np.ldexp(values, -e)
+    center, scale_lo, scale_hi, lo_box, hi_box = (float(np.ldexp(r, -e)) for r in refs)
     if rule in ("fences", "adjusted_fences"):
-        lo_box, hi_box = (np.ldexp(r, -e) for r in refs[3:])
-        out = np.zeros_like(values)
-        out[values < lo_box] = ((values - lo_box) / scale_lo)[values < lo_box]
-        out[values > hi_box] = ((values - hi_box) / scale_hi)[values > hi_box]
-        out[np.isnan(values)] = np.nan
+        out = values - hi_box
+        out /= scale_hi
+        with np.errstate(invalid="ignore"):
+            below = values < lo_box
+            out[below] = (values[below] - lo_box) / scale_lo
+            out[(values >= lo_box) & (values <= hi_box)] = 0.0
         return out
-    return (values - center) / scale_lo
+    out = values - center
+    out /= scale_lo
+    return out
 
 
 def describe_rule(rule: str, params: dict[str, Any]) -> str:
