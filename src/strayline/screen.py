@@ -710,11 +710,14 @@ class Screen:
         out = []
         for kind in TRANSFORMS:
             try:
-                values, lm = fit(o, kind)
+                with np.errstate(over="ignore", invalid="ignore", divide="ignore"):
+                    values, lm = fit(o, kind)
                 if kind in DECREASING:
                     values = values[::-1]
                 if values.size < 3 or values[0] == values[-1]:
                     raise ValueError("too few distinct values")
+                if not np.isfinite(values).all():
+                    raise ValueError("values overflow on this scale")
                 skew = moments(values).skewness
                 r = fit_line(normal_quantiles(values.size, "filliben"), values)[2]
                 out.append(TransformComparison(kind, lm, skew, r))
@@ -786,7 +789,8 @@ class Screen:
         if m is not None and m.sd > 0:
             width = edges[1] - edges[0]
             density = np.exp(-0.5 * ((grid - m.mean) / m.sd) ** 2) / (m.sd * np.sqrt(2 * np.pi))
-            curve = density * o.size * width
+            with np.errstate(over="ignore"):
+                curve = density * o.size * width
         else:
             curve = np.zeros_like(grid)
         return HistogramView(edges, counts, marked_counts, grid, curve)

@@ -488,7 +488,7 @@ class Panel(W.VBox):
 
     def _refresh_histogram(self) -> None:
         h = self.screen.histogram()
-        centres = (h.edges[:-1] + h.edges[1:]) / 2
+        centres = h.edges[:-1] / 2 + h.edges[1:] / 2  # halves first: no overflow near 1e308
         with self.hist.bars.hold_sync():
             self.hist.bars.x, self.hist.bars.y = centres, h.counts.astype(float)
         with self.hist.marked.hold_sync():
