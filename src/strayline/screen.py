@@ -14,7 +14,7 @@ from . import evaluate as ev
 from .stats._input import to_float
 from .stats.location import moments, sorted_median, sorted_quantile
 from .stats.normality import Normality, normality_sorted
-from .stats.qq import fit_line, normal_quantiles
+from .stats.qq import QQ, fit_line, normal_quantiles, qq_sorted
 from .stats.transform import DECREASING, TRANSFORMS, fit
 
 if TYPE_CHECKING:
@@ -59,18 +59,6 @@ class Summary:
     comparison: tuple[TransformComparison, ...]
     closest_to_normal: str
     error: str = ""
-
-
-@dataclass(frozen=True)
-class QQView:
-    """Q–Q coordinates of one column: x (normal quantiles), y (ordered values), positions."""
-
-    theoretical: np.ndarray
-    ordered: np.ndarray
-    order: np.ndarray
-    slope: float
-    intercept: float
-    r: float
 
 
 @dataclass(frozen=True)
@@ -193,7 +181,8 @@ class Screen:
         self._redo: list[_Change | _NoteChange] = []
         self._summaries: dict[tuple[Any, ...], Summary] = {}
         self._comparisons: dict[Hashable, tuple[TransformComparison, ...]] = {}
-        self._qq: dict[tuple[Hashable, ev.Settings], QQView] = {}
+        self._qq: dict[tuple[Hashable, ev.Settings], QQ] = {}
+        self._states: dict[Hashable, tuple[int, np.ndarray]] = {}
         self._listeners: list[Callable[[], None]] = []
         self.version = 0
 
@@ -359,12 +348,17 @@ class Screen:
         """State code of every row in a column: 0 plain, 1 flagged, 2 marked, 3 kept,
         4 missing (see ``STATE_NAMES``)."""
         c = self._col(column)
+        cached = self._states.get(c)
+        if cached is not None and cached[0] == self.version:
+            return cached[1]
         e = self.evaluation(c)
         st = np.zeros(self._n, dtype=np.int8)
         st[e.flagged] = FLAGGED
         st[self._marked[c]] = MARKED
         st[self._kept[c]] = KEPT
         st[np.isnan(e.prepared.values)] = MISSING
+        st.flags.writeable = False
+        self._states[c] = (self.version, st)
         return st
 
     def _contribution(self, c: Hashable) -> np.ndarray:
@@ -491,10 +485,15 @@ class Screen:
         """Positions of every row whose Q–Q point (normal quantile, value on the screening
         scale) lies in the rectangle, over all rows: both coordinates increase with rank, so
         the rectangle holds one run of ranks found by two binary searches."""
+        return np.flatnonzero(self.region_mask(x0, x1, y0, y1, column))
+
+    def region_mask(self, x0: float, x1: float, y0: float, y1: float,
+                    column: Hashable | None = None) -> np.ndarray:
+        """:meth:`region_positions` as a boolean array by row position (O(n), no sort)."""
         a, b = self._region_ranks(x0, x1, y0, y1, column)
-        if b <= a:
-            return np.empty(0, dtype=np.int64)
-        return np.sort(self.evaluation(column).prepared.order[a:b])
+        inside = np.zeros(self._n, dtype=bool)
+        inside[self.evaluation(column).prepared.order[a:b]] = True
+        return inside
 
     def _region_ranks(self, x0: float, x1: float, y0: float, y1: float,
                       column: Hashable | None = None) -> tuple[int, int]:
@@ -521,10 +520,7 @@ class Screen:
         if mode not in MODES:
             raise ValueError(f"mode must be one of {MODES}, got {mode!r}")
         c = self._col(column)
-        e = self.evaluation(c)
-        a, b = self._region_ranks(x0, x1, y0, y1, c)
-        inside = np.zeros(self._n, dtype=bool)
-        inside[e.prepared.order[a:b]] = True
+        inside = self.region_mask(x0, x1, y0, y1, c)
         marked, kept = self._marked[c], self._kept[c]
         if mode == "add":
             new_m, new_k = marked | inside, kept & ~inside
@@ -534,7 +530,7 @@ class Screen:
             new_m, new_k = inside, kept & ~inside
         changed = np.flatnonzero((new_m != marked) | (new_k != kept))
         self._apply(c, changed, new_m[changed], new_k[changed])
-        return max(b - a, 0)
+        return int(np.count_nonzero(inside))
 
     def note(self, labels: Any, text: str | None) -> None:
         """Attach a free-text note to rows (None or "" removes it)."""
@@ -728,7 +724,7 @@ class Screen:
 
     # --- what the plots draw ----------------------------------------------------------------
 
-    def qq_coordinates(self, column: Hashable | None = None) -> QQView:
+    def qq_coordinates(self, column: Hashable | None = None) -> QQ:
         """Q–Q coordinates of every present value on the current scale (arrays are shared and
         read-only): theoretical quantiles, ordered values, their row positions, the
         least-squares reference line and the PPCC."""
@@ -737,10 +733,13 @@ class Screen:
         cached = self._qq.get(key)
         if cached is None:
             e = self.evaluation(c)
-            o = e.prepared.ordered
-            m = normal_quantiles(o.size, "filliben") if o.size else np.empty(0)
-            slope, intercept, r = fit_line(m, o) if o.size >= 3 else (np.nan, np.nan, np.nan)
-            cached = QQView(_frozen(m), _frozen(o), _frozen(e.prepared.order), slope, intercept, r)
+            o, order = _frozen(e.prepared.ordered), _frozen(e.prepared.order)
+            if o.size >= 3:
+                cached = qq_sorted(o, order=order)
+            else:  # too few points for a line: coordinates only
+                nan = float("nan")
+                m = normal_quantiles(o.size) if o.size else np.empty(0)
+                cached = QQ(m, o, order, nan, nan, nan, "filliben", "fit")
             if len(self._qq) > 8:
                 self._qq.clear()
             self._qq[key] = cached

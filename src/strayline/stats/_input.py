@@ -156,6 +156,15 @@ def scale_exponent(values: np.ndarray) -> int:
     return int(np.frexp(biggest)[1])
 
 
+def rescaled(values: np.ndarray) -> tuple[np.ndarray, int]:
+    """*values* times 2**-e and e, where e is 0 (and no copy is made) unless the values come
+    within 2**±500 of the limits of the floating-point range."""
+    e = scale_exponent(values)
+    if -500 < e < 500:
+        return values, 0
+    return np.ldexp(values, -e), e
+
+
 def like_input(result: np.ndarray, col: Column, name: Any = None) -> np.ndarray | pd.Series:
     """Return *result* as a Series with the input's index when the input was a Series."""
     if col.index is None:

@@ -6,6 +6,8 @@ from dataclasses import dataclass
 
 import numpy as np
 
+from ._input import scale_exponent
+
 #: 1 / Phi^{-1}(3/4): makes the MAD a consistent estimate of the SD for normal data.
 MAD_TO_SD = 1.482602218505602
 
@@ -63,11 +65,6 @@ class Moments:
     excess_kurtosis: float
 
 
-def _exponent(values: np.ndarray) -> int:
-    biggest = float(np.max(np.abs(values))) if values.size else 0.0
-    return int(np.frexp(biggest)[1]) if 0.0 < biggest < np.inf else 0
-
-
 def moments(values: np.ndarray) -> Moments:
     """Mean, SD, G1 and G2 in three passes over the data.
 
@@ -80,11 +77,11 @@ def moments(values: np.ndarray) -> Moments:
         return Moments(0, np.nan, np.nan, np.nan, np.nan)
     # two exact power-of-two scalings (of the values, then of the deviations) keep the sums of
     # squares and fourth powers finite and normal from 1e-308 to 1e308
-    e1 = _exponent(values)
+    e1 = scale_exponent(values)
     scaled = np.ldexp(values, -e1)
     mean_s = float(scaled.mean())
     d = scaled - mean_s
-    e2 = _exponent(d)
+    e2 = scale_exponent(d)
     d = np.ldexp(d, -e2, out=d)
     d2 = d * d
     m2 = float(d2.sum()) / n

@@ -11,7 +11,16 @@ import pandas as pd
 from scipy import special
 from scipy import stats as sps
 
-from ._input import Column, check_alpha, check_positive, column, like_input, require, scale_exponent
+from ._input import (
+    Column,
+    check_alpha,
+    check_positive,
+    column,
+    like_input,
+    require,
+    rescaled,
+    scale_exponent,
+)
 from .location import sorted_median, sorted_quantile
 from .medcouple import medcouple_sorted
 
@@ -140,9 +149,8 @@ def fences(x: Any, k: float = 1.5) -> Fences:
 def sorted_adjusted_fences(s: np.ndarray, k: float = 1.5) -> AdjustedFences:
     """:func:`adjusted_fences` for ascending values with no missing values."""
     base = sorted_fences(s, k)
-    e = scale_exponent(s)
-    # the medcouple is scale-free: near the float limits work on exactly rescaled values
-    mc = medcouple_sorted(s if -500 < e < 500 else np.ldexp(s, -e))
+    # the medcouple is scale-free: near the float limits it works on exactly rescaled values
+    mc = medcouple_sorted(rescaled(s)[0])
     a, b = (-4.0, 3.0) if mc >= 0 else (-3.0, 4.0)
     return AdjustedFences(q1=base.q1, q3=base.q3, iqr=base.iqr,
                           lower=base.q1 - base.k * np.exp(a * mc) * base.iqr,
@@ -221,6 +229,12 @@ def gesd_critical(n: int, max_outliers: int, alpha: float) -> np.ndarray:
     i = np.arange(1, max_outliers + 1, dtype=float)
     t = special.stdtrit(n - i - 1, 1 - alpha / (2 * (n - i + 1)))
     return (n - i) * t / np.sqrt((n - i - 1 + t * t) * (n - i + 1))
+
+
+def gesd_count(statistics: np.ndarray, critical_values: np.ndarray) -> int:
+    """Number of outliers: the largest i with R_i > λ_i (Rosner, 1983), 0 if there is none."""
+    beyond = np.flatnonzero(statistics > critical_values)
+    return int(beyond[-1] + 1) if beyond.size else 0
 
 
 @dataclass(frozen=True)
@@ -328,8 +342,7 @@ def gesd(x: Any, max_outliers: int, alpha: float = 0.05) -> GESD:
     zscore_center_scale(s, "the generalized ESD test")  # refuses constant data
     order, stats_ = sorted_gesd_steps(s, r)
     crit = gesd_critical(n, r, alpha)
-    beyond = np.flatnonzero(stats_ > crit)
-    n_out = int(beyond[-1] + 1) if beyond.size else 0
+    n_out = gesd_count(stats_, crit)
     removed = present[idx[order[:n_out]]]
     mask = np.zeros(col.values.size, dtype=bool)
     mask[removed] = True
@@ -479,9 +492,7 @@ def _sorted_bounds(s: np.ndarray, rule: str, params: dict[str, Any]) -> Bounds:
     r = _check_max_outliers(params["max_outliers"], n)
     center, sd = zscore_center_scale(s, "the generalized ESD test")
     order, stats_ = sorted_gesd_steps(s, r)
-    crit = gesd_critical(n, r, params["alpha"])
-    beyond = np.flatnonzero(stats_ > crit)
-    n_out = int(beyond[-1] + 1) if beyond.size else 0
+    n_out = gesd_count(stats_, gesd_critical(n, r, params["alpha"]))
     return _kept_extremes(s, np.sort(order[:n_out]), center, sd, {"n_outliers": float(n_out)})
 
 

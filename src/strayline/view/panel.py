@@ -62,7 +62,7 @@ class Panel(W.VBox):
         self._overwrite = overwrite
         self._namespace = namespace
         self._max_points = max_points
-        self._brushed = np.empty(0, dtype=np.int64)
+        self._brushed = np.zeros(len(screen.frame), dtype=bool)  # rows the last stroke covered
         self._drawn_ranks = np.empty(0, dtype=np.int64)
         self._page_positions = np.empty(0, dtype=np.int64)
         self._sort_cache: dict[tuple[Any, ...], np.ndarray] = {}
@@ -184,7 +184,7 @@ class Panel(W.VBox):
         self.qq.brush.selected_y = np.array([y0, y1], dtype=float)
         self.qq.brush.brushing = True
         self.qq.brush.brushing = False
-        return int(self._brushed.size)
+        return int(np.count_nonzero(self._brushed))
 
     # --- plumbing -----------------------------------------------------------------------------
 
@@ -225,9 +225,9 @@ class Panel(W.VBox):
     def _follow_screen(self) -> None:
         self._sort_cache.clear()
         self._sync_controls()
+        self._after_decision()  # points, histogram, table
         self._refresh_lines()
         self._refresh_summary()
-        self._after_decision()
 
     def _write_back(self) -> None:
         if self.mask_name:
@@ -254,8 +254,8 @@ class Panel(W.VBox):
         try:
             s = self.screen.settings()
             self.column_select.value = self.screen.column
-            self.group_select.value = s.group if s.group in dict(
-                (v, v) for _, v in self.group_select.options) else None
+            offered = [value for _, value in self.group_select.options]
+            self.group_select.value = s.group if s.group in offered else None
             self.transform_select.value = s.transform
             self.rule_select.value = s.rule
             p = s.rule_params
@@ -282,7 +282,7 @@ class Panel(W.VBox):
 
         def go() -> None:
             self.screen.column = change["new"]
-            self._brushed = np.empty(0, dtype=np.int64)
+            self._brushed[:] = False
             self._sync_controls()
             self._refresh_all()
 
@@ -328,7 +328,7 @@ class Panel(W.VBox):
             x0, x1 = float(sx[0]), float(sx[-1])
             y0, y1 = float(sy[0]), float(sy[-1])
             mode = self.mode_select.value
-            self._brushed = self.screen.region_positions(x0, x1, y0, y1)
+            self._brushed = self.screen.region_mask(x0, x1, y0, y1)
             self.screen.mark_region(x0, x1, y0, y1, mode=mode)
             self._after_decision(view="marked" if mode != "remove" else None)
 
@@ -410,8 +410,8 @@ class Panel(W.VBox):
         elif not self.last_error:
             self.status.value = ""
         self._refresh_points()
-        self._refresh_lines()
         self._refresh_histogram()
+        self._refresh_lines()
         self._refresh_summary()
         self._refresh_table()
         self.timings["refresh"] = time.perf_counter() - t0
@@ -478,7 +478,7 @@ class Panel(W.VBox):
         else:
             fx = np.array([x, x])
             fy = np.array([[b.lower, b.lower], [b.upper, b.upper]])
-            top = float(s.histogram().counts.max()) if v.ordered.size else 1.0
+            top = float(np.max(self.hist.bars.y, initial=1.0))
             hx = np.array([[b.lower, b.lower], [b.upper, b.upper]])
             hy = np.array([[0, top], [0, top]], dtype=float)
         with q.fences.hold_sync():
@@ -600,7 +600,7 @@ class Panel(W.VBox):
                          "score": "" if np.isnan(scores[k]) else f"{scores[k]:+.2f}",
                          "reason": _text(reasons[k]), "note": _text(notes.get(int(pos), "")),
                          "cells": cells})
-        brushed = pick[np.isin(pick, self._brushed)] if self._brushed.size else pick[:0]
+        brushed = pick[self._brushed[pick]]
         with t.hold_sync():
             t.columns = names
             t.rows = rows
