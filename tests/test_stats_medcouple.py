@@ -7,6 +7,8 @@ on data with and without heavy ties, and with the sampling path forced on small 
 
 from __future__ import annotations
 
+import importlib
+
 import numpy as np
 import pytest
 from hypothesis import given, settings
@@ -15,6 +17,8 @@ from statsmodels.stats.stattools import _medcouple_1d_legacy as statsmodels_pair
 
 import strayline
 from strayline.stats.medcouple import medcouple_sorted
+
+medcouple_module = importlib.import_module("strayline.stats.medcouple")
 
 
 def medcouple_by_definition(x):
@@ -173,3 +177,54 @@ def test_extreme_magnitudes():
         back = np.ldexp(tiny, 1040)  # exact
         assert strayline.medcouple(tiny) == pytest.approx(medcouple_by_definition(back),
                                                           abs=1e-12)
+
+
+# --- the two selections: windowed cuts with a certificate, and the exact sampling rounds ---
+
+MAKERS = {
+    "lognormal": lambda r, n: r.lognormal(0, 1, n),
+    "normal": lambda r, n: r.normal(size=n),
+    "ties": lambda r, n: r.integers(0, 30, n).astype(float),
+    "few-values": lambda r, n: r.integers(0, 4, n).astype(float),
+    "rounded": lambda r, n: np.round(r.normal(size=n), 1),
+    "half-at-zero": lambda r, n: np.concatenate([np.zeros(n // 2), r.exponential(size=n - n // 2)]),
+}
+
+
+@pytest.mark.parametrize("kind", sorted(MAKERS))
+@pytest.mark.parametrize("n", [3000, 3001])
+def test_windowed_selection_equals_the_exact_one_and_statsmodels(kind, n, monkeypatch):
+    # 2.25 million pairs: more than are listed at once, so the windowed selection cuts rows
+    s = np.sort(MAKERS[kind](np.random.default_rng(n), n))
+    fast = medcouple_sorted(s)
+    monkeypatch.setattr(medcouple_module, "_select_fast", lambda *a: None)
+    exact = medcouple_sorted(s)
+    assert fast == exact  # the same kernel value, to the last bit
+    assert fast == pytest.approx(statsmodels_pairwise(s), abs=1e-12)
+
+
+def test_a_rank_inside_a_block_of_equal_kernel_values_is_decided_by_exact_counts(monkeypatch):
+    # integers 0..3: the kernel takes few values, so the middle rank sits inside a run of
+    # equal values far longer than the window that may be listed
+    s = np.sort(np.random.default_rng(5).integers(0, 4, 2999).astype(float))
+    calls = []
+    tied = medcouple_module._tied
+
+    def spy(*a):
+        calls.append(tied(*a))
+        return calls[-1]
+
+    monkeypatch.setattr(medcouple_module, "_tied", spy)
+    got = medcouple_sorted(s, enumerate_limit=1000)
+    assert calls and calls[0] is not None
+    assert got == pytest.approx(statsmodels_pairwise(s), abs=1e-12)
+
+
+def test_subnormal_magnitudes_leave_the_windowed_selection_to_the_exact_one():
+    # the windowed cuts rely on relative rounding bounds that subnormal values do not have
+    x = np.random.default_rng(2).lognormal(size=1501)
+    tiny = np.sort(np.ldexp(x, -1060))
+    assert medcouple_module._select_fast(tiny[tiny > np.median(tiny)], np.sort(-tiny[:10]), 0, 3, 3,
+                                         1 << 20) is None
+    back = np.ldexp(tiny, 1060)  # exact: rounding happened on the way down only
+    assert medcouple_sorted(tiny) == pytest.approx(statsmodels_pairwise(back), abs=1e-12)

@@ -7,14 +7,22 @@ Definition (Brys, Hubert & Struyf, 2004 [1]_): with m the median, for x_i >= m >
 and for pairs where x_i = x_j = m (k values tied at the median, numbered a, b = 0..k-1)
 h = sign(a + b - (k - 1)). The medcouple is the median of h over all such pairs.
 
-The kernel matrix h(i, j), rows x_i >= m ascending and columns x_j <= m ascending, increases
-along both axes. The pairs that involve a value equal to the median give only -1, 0 and +1, and
-are counted in closed form; the median is then found by selection in the sorted matrix of the
-remaining pairs: each round draws a sample of the candidate pairs, takes two sample quantiles
-that bracket the wanted rank, and counts the pairs below each by a binary search per row, so
-every round costs O(n log n) and keeps about 1% of the candidates. When few candidates remain
-they are listed and the rank is taken exactly. The result equals the median of the full n²/4
-kernel values, as the pairwise definition computes it.
+The kernel matrix h(i, j), rows x_i > m ascending and columns x_j < m ascending, increases
+along both axes, so the pairs below any t form a staircase: in row i, the columns with
+x_j - m < g(t)(x_i - m), g(t) = (t - 1)/(t + 1), one binary search per row. The pairs that
+involve a value equal to the median give only -1, 0 and +1 and are counted in closed form.
+
+The median of the remaining pairs is found in two passes over the rows. Counts estimated from
+one row in every few hundred place two thresholds just below and just above the wanted ranks;
+one pass per threshold cuts every row, and the few hundred thousand pairs between the cuts are
+listed and the ranks taken among them. The cuts compare rounded thresholds, so each pair
+outside the window is known to within a few units in the last place of its kernel value; the
+values found are accepted only when they lie inside the window by more than that margin, and
+then no pair outside can reorder them. When many pairs share the value at the wanted rank
+(heavy ties), two exact counts at that value decide; failing both, an exact selection by
+sampling rounds (each keeping about 1% of the candidates) takes over. Either way the result
+is the median of the n²/4 kernel values as the pairwise definition computes them, in
+O(n log n) time and O(n) memory.
 
 References
 ----------
@@ -33,9 +41,12 @@ import numpy as np
 from ._input import column, require, scale_exponent
 from .location import sorted_median
 
-_ENUMERATE = 1 << 22
+_ENUMERATE = 1 << 20
 _SAMPLE = 1 << 19
 _BLOCK = 1 << 19
+_STRETCH = 1 << 12
+_EPS = float(np.finfo(float).eps)
+_NORMAL = 2.0**-900  # far above the subnormal range even after products with slopes
 
 
 def _kernel(u: np.ndarray, v: np.ndarray) -> np.ndarray:
@@ -104,7 +115,183 @@ def _fix_cut(u: np.ndarray, v: np.ndarray, t: float, strict: bool, c: np.ndarray
     return c
 
 
-def _select(u: np.ndarray, v: np.ndarray, r: int,
+def _slope(t: float) -> float:
+    """g(t) = (t - 1)/(t + 1): h(u, v) < t  <=>  v < g(t) u for u > 0 > v."""
+    if t <= -1.0:
+        return -np.inf
+    if t >= 1.0:
+        return 0.0
+    return (t - 1.0) / (t + 1.0)
+
+
+def _cuts(u: np.ndarray, v: np.ndarray, t: float, rows: slice = slice(None)) -> np.ndarray:
+    """Per row i of *rows*, the number of columns j with v_j < g(t) u_i, g of :func:`_slope`.
+
+    These are the pairs whose kernel lies below t up to rounding: counted pairs have
+    h(i, j) < t + 5 eps and the others h(i, j) > t - 5 eps (the threshold and the kernel each
+    carry a relative error of a few eps, and |h| <= 1). The keys fall as u rises, so the rows
+    are searched in blocks, each in the short stretch of v that its first and last keys bound,
+    which keeps the binary searches in cache.
+    """
+    g = _slope(t)
+    uu = u[rows]
+    out = np.empty(uu.size, dtype=np.int32 if v.size < 2**31 - 1 else np.int64)
+    if not uu.size:
+        return out
+    if g == -np.inf:
+        out[:] = 0
+        return out
+    step = _STRETCH
+    firsts = np.searchsorted(v, uu[::step] * g)  # the cut of each block's first row: the largest
+    bounds = np.append(firsts, 0)
+    for b, start in enumerate(range(0, uu.size, step)):
+        keys = uu[start:start + step] * g
+        hi, lo = int(bounds[b]), int(bounds[b + 1])
+        found = np.searchsorted(v[lo:hi], keys[::-1])[::-1]
+        np.add(found, lo, out=out[start:start + step], casting="unsafe")
+    return out
+
+
+def _group(p: int) -> int:
+    """Rows per group in :func:`_estimate`: odd, so that the middle row is the centre."""
+    return max(1, p >> 15) | 1
+
+
+def _estimate(u: np.ndarray, v: np.ndarray, zeros: int, t: float) -> float:
+    """About how many of the pairs (and the *zeros* zero values) lie below t, from the cuts of
+    one row in every group of rows (the middle one), each standing for its group."""
+    p = u.size
+    step = _group(p)
+    cuts = _cuts(u, v, t, slice(step // 2, None, step))
+    weights = np.full(cuts.size, step, dtype=np.int64)
+    weights[-1] = p - step * (cuts.size - 1)
+    return float(cuts @ weights) + (zeros if t > 0 else 0)
+
+
+def _threshold(u: np.ndarray, v: np.ndarray, zeros: int, target: float,
+               tol: float) -> tuple[float, float]:
+    """A t in [-1, 1] with about *target* values below it (within *tol*) and its estimated
+    count, by regula falsi with the Illinois step on the estimate, which rises with t."""
+    a, b = -1.0, 1.0
+    fa, fb = -target, float(u.size * v.size + zeros) - target
+    side = 0
+    t = 0.0
+    for _ in range(100):
+        t = (a * fb - b * fa) / (fb - fa) if fb != fa else 0.5 * (a + b)
+        if not a < t < b:
+            t = 0.5 * (a + b)
+        ft = _estimate(u, v, zeros, t) - target
+        if abs(ft) <= tol or b - a <= 8 * _EPS * max(1.0, abs(t)):
+            break
+        if ft < 0:
+            a, fa = t, ft
+            if side == -1:
+                fb *= 0.5
+            side = -1
+        else:
+            b, fb = t, ft
+            if side == 1:
+                fa *= 0.5
+            side = 1
+    return t, ft + target
+
+
+def _window(u: np.ndarray, v: np.ndarray, lo: np.ndarray, hi: np.ndarray) -> np.ndarray:
+    """The kernel values of the pairs lo_i <= j < hi_i, as the pairwise definition computes
+    them."""
+    w = hi - lo
+    active = np.flatnonzero(w)  # only rows with candidates left: no arrays of size p
+    counts = w[active]
+    total = int(counts.sum())
+    rows = np.repeat(active.astype(lo.dtype), counts)
+    cols = np.arange(total, dtype=lo.dtype)
+    cols -= np.repeat((np.cumsum(counts) - counts).astype(lo.dtype), counts)
+    cols += np.repeat(lo[active], counts)
+    del active, counts
+    left = u[rows]
+    right = v[cols]
+    del rows, cols
+    vals = left + right  # the kernel (u + v) / (u - v), as _kernel computes it
+    np.subtract(left, right, out=left)
+    vals /= left
+    return vals
+
+
+def _select_fast(u: np.ndarray, v: np.ndarray, zeros: int, r: int, r2: int,
+                 limit: int) -> tuple[float, float] | None:
+    """The r-th and r2-th smallest (0-based, r2 in {r, r + 1}) of the kernel values
+    h(i, j) = (u_i + v_j)/(u_i - v_j) together with *zeros* extra zeros; None when the
+    certificate below fails (many ties at the answer), and the exact selection must decide.
+
+    Two thresholds t_a < t_b are placed, from estimated counts, a little below rank r and
+    above rank r2; one pass per threshold cuts every row, and the pairs between the cuts are
+    listed. Every pair below the cuts has a kernel below t_a + 5 eps and every pair above
+    them one above t_b - 5 eps (see :func:`_cuts`). So when the listed values at the wanted
+    ranks lie more than that margin inside (t_a, t_b), no pair outside the window can reorder
+    them, and they are exactly the r-th and r2-th of all the values.
+    """
+    p, q = u.size, v.size
+    if not p or not q or u[0] < _NORMAL or -v[-1] < _NORMAL:
+        return None  # subnormal magnitudes would void the relative error bounds
+    margin = 64 * _EPS
+    # the estimate errs by about sqrt(p * group) pairs: place the cuts a few times that apart
+    spread = max(64.0, min(limit / 5, 8 * np.sqrt(p * _group(p))))
+    shift = 0.0  # what the estimates missed by, learnt from the exact cuts of a failed try
+    for _ in range(3):
+        tol = spread / 4
+        want_a, want_b = r - spread - shift, r2 + 1 + spread - shift
+        t_a, e_a = _threshold(u, v, zeros, want_a, tol)
+        t_b, e_b = _threshold(u, v, zeros, want_b, tol)
+        if abs(e_a - want_a) > tol or abs(e_b - want_b) > tol:
+            # the count jumps over a target: many pairs share one value there
+            t = t_a if abs(e_a - want_a) > tol else t_b
+            return _tied(u, v, zeros, r, r2, _cuts(u, v, t - 1024 * _EPS),
+                         _cuts(u, v, t + 1024 * _EPS))
+        lo = _cuts(u, v, t_a)
+        hi = _cuts(u, v, t_b)
+        np.maximum(hi, lo, out=hi)
+        z_below, z_inside = (zeros, 0) if t_a > 0 else ((0, zeros) if t_b > 0 else (0, 0))
+        below = int(lo.sum(dtype=np.int64)) + z_below
+        above = int(hi.sum(dtype=np.int64)) + z_below + z_inside
+        if above - below > limit:  # crowded: many pairs share a value near the answer
+            return _tied(u, v, zeros, r, r2, lo, hi)
+        if not below <= r < r2 + 1 <= above:
+            shift = ((below - e_a) + (above - e_b)) / 2
+            spread *= 2
+            continue
+        vals = _window(u, v, lo, hi)
+        del lo, hi
+        if z_inside:
+            vals = np.concatenate([vals, np.zeros(z_inside)])
+        k, k2 = r - below, r2 - below
+        vals = np.partition(vals, (k, k2))
+        a, b = float(vals[k]), float(vals[k2])
+        if a > t_a + margin and b < t_b - margin:
+            return a, b
+        return None
+    return None
+
+
+def _tied(u: np.ndarray, v: np.ndarray, zeros: int, r: int, r2: int, lo: np.ndarray,
+          hi: np.ndarray) -> tuple[float, float] | None:
+    """(c, c) when the ranks r..r2 hold one value c repeated by many pairs of the window
+    lo_i <= j < hi_i; c is the median of a few pairs spread over the window, and two exact
+    counts of the pairs below c and at most c decide (None: they do not)."""
+    w = hi - lo
+    rows = np.flatnonzero(w)
+    if not rows.size:
+        return None
+    pick = rows[np.linspace(0, rows.size - 1, 65).astype(np.int64)]
+    c = float(np.median(_kernel(u[pick], v[lo[pick] + w[pick] // 2])))
+    whole = (np.zeros(u.size, dtype=lo.dtype), np.full(u.size, v.size, dtype=lo.dtype))
+    less = int(_cut(u, v, c, True, *whole).sum(dtype=np.int64)) + (zeros if c > 0 else 0)
+    if less > r:
+        return None
+    at_most = int(_cut(u, v, c, False, *whole).sum(dtype=np.int64)) + (zeros if c >= 0 else 0)
+    return (c, c) if at_most > r2 else None
+
+
+def _select_exact(u: np.ndarray, v: np.ndarray, r: int,
             enumerate_limit: int = _ENUMERATE) -> tuple[float, float | None]:
     """The r-th smallest (0-based) of h(i, j) = (u_i + v_j)/(u_i - v_j) over all i, j, for
     ascending u > 0 and ascending v < 0, and the (r+1)-th when it is found on the way (else None).
@@ -196,6 +383,18 @@ def medcouple_sorted(s: np.ndarray, *, enumerate_limit: int = _ENUMERATE) -> flo
     n_minus = k * v.size + k * (k - 1) // 2
     n_plus = u.size * k + k * (k - 1) // 2
     interior = u.size * v.size
+    assert n_minus + n_plus + k + interior == pairs
+    # Below the interior pairs and the k zeros of the tied block lie n_minus values -1, above
+    # them n_plus values +1: the middle ranks are found among the interior values and zeros.
+    wanted = [pairs // 2] if pairs % 2 else [pairs // 2 - 1, pairs // 2]
+    inner = [w - n_minus for w in wanted if 0 <= w - n_minus < interior + k]
+    if inner:
+        got = _select_fast(u, v, k, inner[0], inner[-1], enumerate_limit)
+        if got is not None:
+            known = iter(got if len(inner) == 2 else got[:1])
+            vals = [-1.0 if w < n_minus else (1.0 if w >= n_minus + interior + k
+                                              else next(known)) for w in wanted]
+            return float(sum(vals) / len(vals))
     # pairs with h < 0 (v_j < -u_i, exact) and h == 0 (v_j == -u_i), by blocks of rows
     neg = zero = 0
     for start in range(0, u.size, _BLOCK):
@@ -222,16 +421,15 @@ def medcouple_sorted(s: np.ndarray, *, enumerate_limit: int = _ENUMERATE) -> flo
 
     def value(r: int) -> float:
         const, ir = locate(r)
-        return const if ir is None else _select(u, v, ir, enumerate_limit)[0]
+        return const if ir is None else _select_exact(u, v, ir, enumerate_limit)[0]
 
-    assert n_minus + n_plus + k + interior == pairs
     if pairs % 2:
         return value(pairs // 2)
     (_, ir1), (_, ir2) = locate(pairs // 2 - 1), locate(pairs // 2)
     if ir1 is not None and ir2 == ir1 + 1:
         # both middle values are interior and adjacent: the second is the first again when
         # that value repeats, else the least kernel value above it
-        first, second = _select(u, v, ir1, enumerate_limit)
+        first, second = _select_exact(u, v, ir1, enumerate_limit)
         if second is not None:
             return float((first + second) / 2)
         whole = (np.zeros(u.size, dtype=np.int64), np.full(u.size, v.size, dtype=np.int64))
