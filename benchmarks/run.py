@@ -62,18 +62,20 @@ def report(name: str, n: int, t: float, base: float, base_name: str, target: str
 
 
 def full_screen(x: np.ndarray) -> None:
-    """Everything one column's screen computes, from the raw values."""
+    """Everything one column's screen computes, from the raw values, as the Screen does it:
+    one sort, the Q–Q line (whose r is the PPCC), both fences, both kinds of z-scores, the
+    moments and the normality tests."""
     s = np.sort(x)
     m = normal_quantiles(s.size)
-    fit_line(m, s)
+    r = fit_line(m, s)[2]
     rules.sorted_fences(s, 1.5)
     rules.sorted_adjusted_fences(s, 1.5)
     med, mad = rules.robust_center_scale(s)
     (x - med) / mad
     mean, sd = rules.zscore_center_scale(s)
     (x - mean) / sd
-    location.moments(s)
-    normality_sorted(s)
+    location.moments(s, ascending=True)
+    normality_sorted(s, ppcc=r)
 
 
 def bench_full(sizes: list[int], rng: np.random.Generator) -> None:

@@ -256,6 +256,40 @@ def test_a_repeated_label_is_resolved_by_the_value_seen(hold) -> None:
     pd.testing.assert_series_equal(m, s.mask)
 
 
+def test_a_repeated_label_and_value_is_resolved_by_its_place_among_them(hold) -> None:
+    # rows 3, 8 and 13 share the label "lot3" and the reading 7.5: marking the second of them
+    # must replay on that row only, through apply, the file and the generated code
+    rng = np.random.default_rng(11)
+    v = rng.normal(5, 1, 20)
+    v[[3, 8, 13]] = 7.5
+    df = hold(pd.DataFrame({"v": v}, index=[f"lot{i % 5}" for i in range(20)]))
+    s = strayline.Screen(df)
+    s.mark_positions([8])
+    s.keep_positions([13])
+    assert [d.occurrence for d in s.ledger.columns[0].marks] == [1]
+    ledger = Ledger.from_dict(json.loads(s.ledger.to_json()))
+    assert [d.occurrence for d in ledger.columns[0].keeps] == [2]
+    with no_ledger_warning():
+        m = ledger.apply(df)
+    assert m.iloc[8] and not m.iloc[3] and not m.iloc[13]
+    pd.testing.assert_series_equal(m, s.mask)
+    pd.testing.assert_series_equal(run_code(ledger, df), s.mask)
+    # on data with fewer such rows the decision is reported, not moved to another row
+    with pytest.warns(LedgerWarning, match="keep on .lot3.: row 3 of those with value 7.5"):
+        ledger.apply(df.iloc[:10])
+
+
+@pytest.mark.parametrize("bad", [-1, 1.5, "2", True])
+def test_a_bad_occurrence_in_the_file_is_refused(bad) -> None:
+    df = pd.DataFrame({"v": np.arange(20.0)}, index=["a"] * 20)
+    s = strayline.Screen(df)
+    s.mark_positions([4])
+    doc = json.loads(s.ledger.to_json())
+    doc["columns"][0]["marks"][0]["occurrence"] = bad
+    with pytest.raises(strayline.LedgerError, match="occurrence"):
+        Ledger.from_dict(doc)
+
+
 def test_apply_needs_a_dataframe() -> None:
     ledger = strayline.Screen(pd.DataFrame({"v": np.arange(20.0)})).ledger
     with pytest.raises(TypeError, match="DataFrame"):

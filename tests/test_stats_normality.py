@@ -138,3 +138,28 @@ def test_scale_free_at_the_ends_of_the_float_range():
 def test_refusals(x, fragment):
     with pytest.raises(ValueError, match=fragment):
         strayline.normality(x)
+
+
+@pytest.mark.parametrize("n", [6000, 70_001])
+def test_large_samples_with_a_far_outlier_against_scipy(n):
+    # one value about 50 SDs out puts Φ(z) below the smallest float: the far tail is taken
+    # from log Φ directly; blocks of values and the regrouped weights give scipy's A² and K²
+    x = np.random.default_rng(n).normal(10.0, 2.0, n)
+    x[7] = 10.0 + 2.0 * 0.9 * np.sqrt(n)
+    nm = strayline.normality(x)
+    assert stats.zscore(x, ddof=1).max() > 38  # Φ(-38) < 1e-300
+    assert nm.anderson.statistic == pytest.approx(_anderson_legacy(x).statistic, rel=1e-10)
+    k2, p = stats.normaltest(x)
+    assert nm.dagostino.statistic == pytest.approx(k2, rel=1e-10)
+    assert nm.dagostino.pvalue == pytest.approx(p, rel=1e-9, abs=1e-300)
+    assert nm.skewness == pytest.approx(stats.skew(x, bias=False), rel=1e-10)
+    assert nm.ppcc == pytest.approx(stats.probplot(x)[1][2], rel=1e-12)
+
+
+def test_the_ppcc_handed_in_is_the_one_reported():
+    x = np.sort(DATA["normal-400"])
+    from strayline.stats.normality import normality_sorted
+
+    r = stats.probplot(x)[1][2]
+    assert normality_sorted(x, ppcc=r).ppcc == r
+    assert normality_sorted(x).ppcc == pytest.approx(r, rel=1e-12)

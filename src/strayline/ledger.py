@@ -101,10 +101,12 @@ def _jsonable(v: Any) -> Any:
 
 @dataclass(frozen=True)
 class Decision:
-    """A hand decision on one row: its label and the value seen when it was taken."""
+    """A hand decision on one row: its label and the value seen when it was taken, and, when
+    several rows share that label and value, which of them (0 = the first in frame order)."""
 
     label: Any
     value: float | None
+    occurrence: int | None = None
 
 
 @dataclass(frozen=True)
@@ -145,8 +147,8 @@ class Ledger:
         for c in screen.columns:
             e = screen.evaluation(c)
             raw = screen.raw(c)
-            marks = tuple(Decision(index[p], _jsonable(raw[p])) for p in screen.marked_positions(c))
-            keeps = tuple(Decision(index[p], _jsonable(raw[p])) for p in screen.kept_positions(c))
+            marks = tuple(_decision(index, raw, p) for p in screen.marked_positions(c))
+            keeps = tuple(_decision(index, raw, p) for p in screen.kept_positions(c))
             records.append(ColumnRecord(c, e.settings, e.groups, marks, keeps))
         notes = tuple((index[p], text) for p, text in sorted(screen.notes().items()))
         return cls(tuple(records), notes)
@@ -168,8 +170,8 @@ class Ledger:
                             **{k: _jsonable(v) if not isinstance(v, dict) else
                                {a: _jsonable(b) for a, b in v.items()}
                                for k, v in g.to_dict().items()}} for g in r.bounds],
-                "marks": [{"label": encode_label(d.label), "value": d.value} for d in r.marks],
-                "keeps": [{"label": encode_label(d.label), "value": d.value} for d in r.keeps],
+                "marks": [_decision_dict(d) for d in r.marks],
+                "keeps": [_decision_dict(d) for d in r.keeps],
             })
         return {"format": FORMAT, "version": FORMAT_VERSION, "library": self.library,
                 "created": self.created, "comment": self.comment, "columns": cols,
@@ -279,10 +281,15 @@ class Ledger:
             def decisions(key: str, where: str = where, c: Any = c) -> tuple[Decision, ...]:
                 out = []
                 for j, d in enumerate(need(c, key, list, where)):
-                    v = need(d, "value", (int, float, type(None)), f"{where}.{key}[{j}]")
-                    out.append(Decision(decode_label(need(d, "label", (int, float, str, dict),
-                                                          f"{where}.{key}[{j}]"),
-                                                     f"{where}.{key}[{j}].label"), v))
+                    w = f"{where}.{key}[{j}]"
+                    v = need(d, "value", (int, float, type(None)), w)
+                    occ = d.get("occurrence")
+                    if occ is not None and (isinstance(occ, bool) or not isinstance(occ, int)
+                                            or occ < 0):
+                        raise LedgerError(f"{source}: {w}.occurrence must be a whole number "
+                                          f">= 0, got {occ!r}")
+                    out.append(Decision(decode_label(need(d, "label", (int, float, str, dict), w),
+                                                     f"{w}.label"), v, occ))
                 return tuple(out)
 
             records.append(ColumnRecord(decode_label(need(c, "column", (int, float, str, dict),
@@ -357,7 +364,16 @@ class Ledger:
                     if not same.any():
                         problems.append(f"{r.column!s}: {what} on {d.label!r}: value changed "
                                         f"from {d.value!r} to {float(raw[pos][0])!r}")
-                    target[pos[same]] = True
+                    rows = pos[same]
+                    if d.occurrence is not None:  # the label and value repeat: the n-th row
+                        if d.occurrence >= rows.size:
+                            if rows.size:
+                                problems.append(f"{r.column!s}: {what} on {d.label!r}: row "
+                                                f"{d.occurrence + 1} of those with value "
+                                                f"{d.value!r} not found")
+                            continue
+                        rows = rows[d.occurrence:d.occurrence + 1]
+                    target[rows] = True
             present = ~np.isnan(e.prepared.values)
             mask |= (e.flagged | marked) & ~kept & present
         if problems:
@@ -389,14 +405,17 @@ class Ledger:
             "",
             "",
             "def _decided(df, column, decisions):",
-            '    """Rows whose index label and value match a recorded hand decision."""',
+            '    """Rows whose index label and value match a recorded hand decision (where a',
+            '    label and value repeat, the n-th such row in frame order, n from 0)."""',
             "    hit = np.zeros(len(df), dtype=bool)",
             "    if decisions:",
-            "        rows = np.flatnonzero(df.index.isin([label for label, _ in decisions]))",
-            "        seen = set(decisions)",
+            "        wanted = set(decisions)",
+            "        rows = np.flatnonzero(df.index.isin([label for label, _, _ in decisions]))",
             "        values = np.asarray(df[column], dtype=float)[rows]",
-            "        hit[rows] = [(label, value) in seen",
-            "                     for label, value in zip(df.index[rows], values)]",
+            "        count = {}",
+            "        for row, label, value in zip(rows, df.index[rows], values):",
+            "            n = count[label, value] = count.get((label, value), -1) + 1",
+            "            hit[row] = (label, value, None) in wanted or (label, value, n) in wanted",
             "    return hit",
         ]
         for r in self.columns:
@@ -422,7 +441,8 @@ class Ledger:
                     "            pass",
                 ]
             for name, decisions in (("marked", r.marks), ("kept", r.keeps)):
-                pairs = _literal([(d.label, d.value) for d in decisions], pairs=True)
+                pairs = _literal([(d.label, d.value, d.occurrence) for d in decisions],
+                                 pairs=True)
                 lines.append(f"    {name} = _decided(df, {r.column!r}, {pairs})")
             lines.append("    mask |= (flagged | marked) & ~kept & ~np.isnan(x)")
         lines.append('    return pd.Series(mask, index=df.index, name="suspect")')
@@ -437,6 +457,22 @@ class Ledger:
 def _one_line(text: str) -> str:
     """Text safe inside a one-line comment of generated code."""
     return repr(str(text))[1:-1][:200]
+
+
+def _decision(index: pd.Index, raw: np.ndarray, p: int) -> Decision:
+    """The decision on row position *p*, with its rank among the rows that share its label and
+    value when there are several."""
+    pos = _positions(index, index[p])
+    same = pos[np.isclose(raw[pos], raw[p], rtol=1e-12, atol=0.0, equal_nan=True)]
+    occurrence = int(np.searchsorted(same, p)) if same.size > 1 else None
+    return Decision(index[p], _jsonable(raw[p]), occurrence)
+
+
+def _decision_dict(d: Decision) -> dict[str, Any]:
+    out = {"label": encode_label(d.label), "value": d.value}
+    if d.occurrence is not None:
+        out["occurrence"] = d.occurrence
+    return out
 
 
 def _positions(index: pd.Index, label: Any) -> np.ndarray:
@@ -472,5 +508,6 @@ def _literal(labels: list[Any], pairs: bool = False) -> str:
         return repr(v)
 
     if pairs:
-        return "[" + ", ".join(f"({one(a)}, {float(b)!r})" for a, b in labels) + "]"
+        return "[" + ", ".join(f"({one(a)}, {float(b)!r}, {None if c is None else int(c)!r})"
+                               for a, b, c in labels) + "]"
     return "[" + ", ".join(one(v) for v in labels) + "]"

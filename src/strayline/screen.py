@@ -12,7 +12,7 @@ import pandas as pd
 
 from . import evaluate as ev
 from .stats._input import to_float
-from .stats.location import moments, sorted_median, sorted_quantile
+from .stats.location import moments, sorted_mad, sorted_median, sorted_quantile
 from .stats.normality import Normality, normality_sorted
 from .stats.qq import QQ, fit_line, normal_quantiles, qq_sorted
 from .stats.transform import DECREASING, TRANSFORMS, fit
@@ -680,15 +680,15 @@ class Screen:
             out = Summary(c, ev.scale_name(s.transform), 0, self._n, *([nan] * 9), None,
                           comparison, best, "no values")
         else:
-            m = moments(o)
+            m = moments(o, ascending=True)
             med = sorted_median(o)
             q1, q3 = sorted_quantile(o, 0.25), sorted_quantile(o, 0.75)
-            try:
-                norm, err = normality_sorted(o), ""
+            try:  # the Q–Q plot's r (Filliben positions) is the PPCC
+                norm, err = normality_sorted(o, ppcc=self.qq_coordinates(c).r), ""
             except ValueError as exc:
                 norm, err = None, str(exc)
             out = Summary(c, ev.scale_name(s.transform), n, self._n - n, m.mean, m.sd, med,
-                          float(np.median(np.abs(o - med))), q1, q3, q3 - q1, m.skewness,
+                          sorted_mad(o, med), q1, q3, q3 - q1, m.skewness,
                           m.excess_kurtosis, norm, comparison, best, err)
         if len(self._summaries) > 32:
             self._summaries.clear()
@@ -784,7 +784,7 @@ class Screen:
         marked = e.prepared.values[self._marked[c] & ~np.isnan(e.prepared.values)]
         marked_counts = np.histogram(marked, edges)[0]
         m = moments(o) if o.size else None
-        grid = np.linspace(edges[0], edges[-1], 121)
+        grid = np.linspace(edges[0] / 2, edges[-1] / 2, 121) * 2  # in halves, as the edges
         if m is not None and m.sd > 0:
             width = edges[1] - edges[0]
             density = np.exp(-0.5 * ((grid - m.mean) / m.sd) ** 2) / (m.sd * np.sqrt(2 * np.pi))

@@ -145,22 +145,29 @@ def check_positive(value: float, what: str) -> float:
     return value
 
 
-def scale_exponent(values: np.ndarray) -> int:
+def scale_exponent(values: np.ndarray, *, ascending: bool = False) -> int:
     """A power of two that brings the largest magnitude near 1, so sums of squares never
-    overflow or underflow; multiplying by 2**-e is exact for normal floats."""
+    overflow or underflow; multiplying by 2**-e is exact for normal floats. For *ascending*
+    values the two ends hold the largest magnitude, and nothing else is read."""
     if values.size == 0:
         return 0
-    biggest = float(np.max(np.abs(values)))
+    if ascending:
+        biggest = max(-float(values[0]), float(values[-1]))
+    else:
+        biggest = max(-float(np.min(values)), float(np.max(values)))
     if biggest == 0.0 or not np.isfinite(biggest):
         return 0
     return int(np.frexp(biggest)[1])
 
 
-def rescaled(values: np.ndarray) -> tuple[np.ndarray, int]:
+def rescaled(values: np.ndarray, limit: int = 500, *,
+             ascending: bool = False) -> tuple[np.ndarray, int]:
     """*values* times 2**-e and e, where e is 0 (and no copy is made) unless the values come
-    within 2**±500 of the limits of the floating-point range."""
-    e = scale_exponent(values)
-    if -500 < e < 500:
+    within 2**±limit of the limits of the floating-point range. Scaling by a power of two is
+    exact, so results computed either way agree to the last bit; the default suits sums of
+    squares, fourth powers need ``limit=240``."""
+    e = scale_exponent(values, ascending=ascending)
+    if -limit < e < limit:
         return values, 0
     return np.ldexp(values, -e), e
 

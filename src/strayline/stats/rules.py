@@ -21,7 +21,7 @@ from ._input import (
     rescaled,
     scale_exponent,
 )
-from .location import sorted_median, sorted_quantile
+from .location import moments, sorted_mad, sorted_median, sorted_quantile
 from .medcouple import medcouple_sorted
 
 #: Phi^{-1}(3/4) = 0.6745: the robust z-score constant of Iglewicz & Hoaglin (1993).
@@ -31,11 +31,8 @@ ROBUST_Z = 0.6744897501960817
 # --- z-scores -------------------------------------------------------------------------------
 
 def _center_scale_z(values: np.ndarray) -> tuple[float, float]:
-    e = scale_exponent(values)
-    scaled = np.ldexp(values, -e)
-    mean = scaled.mean()
-    sd = scaled.std(ddof=1)
-    return float(np.ldexp(mean, e)), float(np.ldexp(sd, e))
+    m = moments(values)  # by blocks, scaled exactly near the float limits
+    return m.mean, m.sd
 
 
 def zscore_center_scale(values: np.ndarray, method: str = "the z-score rule"
@@ -66,7 +63,7 @@ def robust_center_scale(s: np.ndarray) -> tuple[float, float]:
     """Median and MAD of ascending values *s*, refusing a zero MAD."""
     require(s.size, 3, "the robust z-score rule")
     med = sorted_median(s)
-    mad = float(np.median(np.abs(s - med)))
+    mad = sorted_mad(s, med)
     if not mad > 0:
         raise ValueError("the robust z-score rule cannot scale these data: the MAD is zero "
                          "(at least half the values are equal); try the fences or the "
@@ -150,7 +147,7 @@ def sorted_adjusted_fences(s: np.ndarray, k: float = 1.5) -> AdjustedFences:
     """:func:`adjusted_fences` for ascending values with no missing values."""
     base = sorted_fences(s, k)
     # the medcouple is scale-free: near the float limits it works on exactly rescaled values
-    mc = medcouple_sorted(rescaled(s)[0])
+    mc = medcouple_sorted(rescaled(s, ascending=True)[0])
     a, b = (-4.0, 3.0) if mc >= 0 else (-3.0, 4.0)
     return AdjustedFences(q1=base.q1, q3=base.q3, iqr=base.iqr,
                           lower=base.q1 - base.k * np.exp(a * mc) * base.iqr,
@@ -443,14 +440,15 @@ _SCALED_INFO = frozenset({"q1", "q3", "iqr", "box_lo", "box_hi"})
 def sorted_bounds(s: np.ndarray, rule: str, params: dict[str, Any]) -> Bounds:
     """Apply *rule* to ascending values with no missing values (params already checked).
 
-    The rule is evaluated on the values scaled by a power of two, which is exact and changes
-    no result, so that nothing overflows near the largest float or loses precision among tiny
-    values; the bounds are scaled back (a bound beyond the float range becomes ±inf).
+    Near the float limits the rule is evaluated on the values scaled by a power of two, which
+    is exact and changes no result, so that nothing overflows near the largest float or loses
+    precision among tiny values; the bounds are scaled back (a bound beyond the float range
+    becomes ±inf). Elsewhere the values are used as they are, without a copy.
     """
-    e = scale_exponent(s)
+    scaled, e = rescaled(s, ascending=True)
     if e == 0:
         return _sorted_bounds(s, rule, params)
-    b = _sorted_bounds(np.ldexp(s, -e), rule, params)
+    b = _sorted_bounds(scaled, rule, params)
     with np.errstate(over="ignore"):
         back = [float(np.ldexp(v, e)) for v in (b.lower, b.upper, b.center, b.scale_lo,
                                                  b.scale_hi)]
