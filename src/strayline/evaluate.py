@@ -8,6 +8,7 @@ from __future__ import annotations
 
 from collections.abc import Hashable, Mapping
 from dataclasses import dataclass, field, replace
+from functools import cached_property
 from typing import Any
 
 import numpy as np
@@ -124,15 +125,15 @@ class GroupBounds:
 class Evaluation:
     """A column's settings applied: everything per row is indexed by row position.
 
-    flagged : bool per row; scores : float per row (NaN where missing);
-    group_codes : int per row (-1 = missing group) or None; groups : one GroupBounds per group
-    (a single one labelled None without a group column); settings : with λ filled in.
+    flagged : bool per row; group_codes : int per row (-1 = missing group) or None;
+    groups : one GroupBounds per group (a single one labelled None without a group column);
+    settings : with λ filled in. Scores are formed on demand, for the rows asked
+    (:meth:`scores_at`) or, once, for all of them (:attr:`scores`).
     """
 
     settings: Settings
     prepared: Prepared
     flagged: np.ndarray
-    scores: np.ndarray
     group_codes: np.ndarray | None
     groups: tuple[GroupBounds, ...]
 
@@ -146,6 +147,36 @@ class Evaluation:
             return [self.groups[0]] * len(positions)
         codes = self.group_codes[positions]
         return [self.groups[c] if c >= 0 else None for c in codes]
+
+    def scores_at(self, positions: np.ndarray | None) -> np.ndarray:
+        """The rule's score of the rows at *positions* (None: every row); NaN where missing,
+        in a group that could not be screened, or without a group."""
+        if positions is None:
+            values = self.prepared.values
+        else:
+            positions = np.asarray(positions, dtype=np.int64)
+            values = self.prepared.values[positions]
+        out = np.full(values.size, np.nan)
+        if self.group_codes is None:
+            g = self.groups[0]
+            if not g.error:
+                out[:] = scores_for(values, self.settings.rule, _bounds_of(g))
+            return out
+        codes = self.group_codes if positions is None else self.group_codes[positions]
+        for code in np.unique(codes[codes >= 0]):
+            g = self.groups[code]
+            if g.error:
+                continue
+            rows = np.flatnonzero(codes == code)
+            out[rows] = scores_for(values[rows], self.settings.rule, _bounds_of(g))
+        return out
+
+    @cached_property
+    def scores(self) -> np.ndarray:
+        """:meth:`scores_at` of every row (formed on first use, then kept)."""
+        out = self.scores_at(None)
+        out.flags.writeable = False
+        return out
 
 
 def _fit_group(ordered: np.ndarray, rule: str, params: dict[str, Any]) -> tuple[Bounds | None, str]:
@@ -193,7 +224,6 @@ def evaluate(raw: np.ndarray, settings: Settings, *, group_codes: np.ndarray | N
     values = prepared.values
     n = values.size
     flagged = np.zeros(n, dtype=bool)
-    scores = np.full(n, np.nan)
     groups: list[GroupBounds] = []
     if group_codes is None:
         if frozen is not None:
@@ -201,8 +231,7 @@ def evaluate(raw: np.ndarray, settings: Settings, *, group_codes: np.ndarray | N
                 raise ValueError("no recorded bounds for the whole column")
             g = frozen[None]
             if g.error:
-                return Evaluation(settings, prepared, flagged, scores, None, (g,))
-            b = _bounds_of(g)
+                return Evaluation(settings, prepared, flagged, None, (g,))
             groups.append(g)
             with np.errstate(invalid="ignore"):
                 flagged = (values < g.lower) | (values > g.upper)
@@ -210,11 +239,9 @@ def evaluate(raw: np.ndarray, settings: Settings, *, group_codes: np.ndarray | N
             fitted, error = _fit_group(prepared.ordered, rule, params)
             groups.append(_as_group(None, prepared.ordered.size, fitted, error))
             if fitted is None:  # the column cannot be screened: nothing is flagged, and why
-                return Evaluation(settings, prepared, flagged, scores, None, tuple(groups))
-            b = fitted
-            flagged[prepared.order[b.flagged]] = True
-        scores = scores_for(values, rule, b)
-        return Evaluation(settings, prepared, flagged, scores, None, tuple(groups))
+                return Evaluation(settings, prepared, flagged, None, tuple(groups))
+            flagged[prepared.order[fitted.flagged]] = True
+        return Evaluation(settings, prepared, flagged, None, tuple(groups))
     labels = list(group_labels or [])
     codes_in_order = group_codes[prepared.order]
     by_group = prepared.order[np.argsort(codes_in_order, kind="stable")]
@@ -238,11 +265,9 @@ def evaluate(raw: np.ndarray, settings: Settings, *, group_codes: np.ndarray | N
             continue
         if fitted is None:
             flagged[rows] = (ordered < g.lower) | (ordered > g.upper)
-            fitted = _bounds_of(g)
         else:
             flagged[rows[fitted.flagged]] = True
-        scores[rows] = scores_for(ordered, rule, fitted)
-    return Evaluation(settings, prepared, flagged, scores, group_codes, tuple(groups))
+    return Evaluation(settings, prepared, flagged, group_codes, tuple(groups))
 
 
 def _fmt(v: float) -> str:
@@ -275,7 +300,7 @@ def reasons(ev: Evaluation, positions: np.ndarray) -> list[str]:
                        f" (k = {params['k']:g}{scale}){where}")
         elif s.rule in ("zscore", "robust_z"):
             name = "z" if s.rule == "zscore" else "robust z"
-            out.append(f"{name} = {ev.scores[pos]:+.2f}, beyond ±{params['threshold']:g}"
+            out.append(f"{name} = {ev.scores_at([pos])[0]:+.2f}, beyond ±{params['threshold']:g}"
                        f"{' (' + scale[2:] + ')' if scale else ''}{where}")
         elif s.rule == "grubbs":
             out.append(f"most extreme value, rejected by Grubbs' test at alpha = "

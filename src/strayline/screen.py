@@ -631,7 +631,7 @@ class Screen:
         st = self.states(c)[positions]
         extra = {
             "state": np.asarray(STATE_NAMES, dtype=object)[st],
-            "score": self.evaluation(c).scores[positions],
+            "score": self.evaluation(c).scores_at(positions),
             "reason": self.reasons(positions, c),
             "note": [self._notes.get(int(p), "") for p in positions],
             "in_mask": self.mask_array()[positions],

@@ -41,7 +41,8 @@ import numpy as np
 from ._input import column, require, scale_exponent
 from .location import sorted_median
 
-_ENUMERATE = 1 << 20
+_ENUMERATE = 1 << 21
+_CHUNK = 1 << 18
 _SAMPLE = 1 << 19
 _BLOCK = 1 << 19
 _STRETCH = 1 << 12
@@ -53,7 +54,7 @@ def _kernel(u: np.ndarray, v: np.ndarray) -> np.ndarray:
     return (u + v) / (u - v)
 
 
-def _cut(u: np.ndarray, v: np.ndarray, t: float, strict: bool, lo: np.ndarray,
+def _cut(u: Rows, v: np.ndarray, t: float, strict: bool, lo: np.ndarray,
          hi: np.ndarray) -> np.ndarray:
     """Per row i, how many columns j have h(i, j) < t (strict) or <= t, clipped to [lo, hi];
     rows are taken in blocks so that the working memory stays small."""
@@ -91,7 +92,7 @@ def _cut_block(u: np.ndarray, v: np.ndarray, t: float, strict: bool, lo: np.ndar
     return c
 
 
-def _fix_cut(u: np.ndarray, v: np.ndarray, t: float, strict: bool, c: np.ndarray,
+def _fix_cut(u: Rows, v: np.ndarray, t: float, strict: bool, c: np.ndarray,
              lo: np.ndarray, hi: np.ndarray, rows: np.ndarray) -> np.ndarray:
     """Move cuts so that they agree with the kernel values themselves (ties and rounding)."""
     q = v.size
@@ -124,7 +125,21 @@ def _slope(t: float) -> float:
     return (t - 1.0) / (t + 1.0)
 
 
-def _cuts(u: np.ndarray, v: np.ndarray, t: float, rows: slice = slice(None)) -> np.ndarray:
+class _Deviations:
+    """x - m for ascending values x, formed on demand for the rows indexed, so that the
+    longer half of the deviations from the median is never held in memory at once."""
+
+    def __init__(self, x: np.ndarray, m: float) -> None:
+        self.x, self.m, self.size = x, m, x.size
+
+    def __getitem__(self, key: Any) -> Any:
+        return self.x[key] - self.m
+
+
+Rows = np.ndarray | _Deviations  # the deviations above the median, by row
+
+
+def _cuts(u: Rows, v: np.ndarray, t: float, rows: slice = slice(None)) -> np.ndarray:
     """Per row i of *rows*, the number of columns j with v_j < g(t) u_i, g of :func:`_slope`.
 
     These are the pairs whose kernel lies below t up to rounding: counted pairs have
@@ -134,21 +149,23 @@ def _cuts(u: np.ndarray, v: np.ndarray, t: float, rows: slice = slice(None)) -> 
     which keeps the binary searches in cache.
     """
     g = _slope(t)
-    uu = u[rows]
-    out = np.empty(uu.size, dtype=np.int32 if v.size < 2**31 - 1 else np.int64)
-    if not uu.size:
+    start, stop, stride = rows.indices(u.size)
+    count = len(range(start, stop, stride))
+    out = np.empty(count, dtype=np.int32 if v.size < 2**31 - 1 else np.int64)
+    if not count:
         return out
     if g == -np.inf:
         out[:] = 0
         return out
     step = _STRETCH
-    firsts = np.searchsorted(v, uu[::step] * g)  # the cut of each block's first row: the largest
-    bounds = np.append(firsts, 0)
-    for b, start in enumerate(range(0, uu.size, step)):
-        keys = uu[start:start + step] * g
+    # the cut of each block's first row, the largest of the block
+    bounds = np.append(np.searchsorted(v, u[start:stop:stride * step] * g), 0)
+    for b, k in enumerate(range(0, count, step)):
+        first = start + k * stride
+        keys = u[first:min(stop, first + step * stride):stride] * g
         hi, lo = int(bounds[b]), int(bounds[b + 1])
         found = np.searchsorted(v[lo:hi], keys[::-1])[::-1]
-        np.add(found, lo, out=out[start:start + step], casting="unsafe")
+        np.add(found, lo, out=out[k:k + step], casting="unsafe")
     return out
 
 
@@ -157,7 +174,7 @@ def _group(p: int) -> int:
     return max(1, p >> 15) | 1
 
 
-def _estimate(u: np.ndarray, v: np.ndarray, zeros: int, t: float) -> float:
+def _estimate(u: Rows, v: np.ndarray, zeros: int, t: float) -> float:
     """About how many of the pairs (and the *zeros* zero values) lie below t, from the cuts of
     one row in every group of rows (the middle one), each standing for its group."""
     p = u.size
@@ -168,7 +185,7 @@ def _estimate(u: np.ndarray, v: np.ndarray, zeros: int, t: float) -> float:
     return float(cuts @ weights) + (zeros if t > 0 else 0)
 
 
-def _threshold(u: np.ndarray, v: np.ndarray, zeros: int, target: float,
+def _threshold(u: Rows, v: np.ndarray, zeros: int, target: float,
                tol: float) -> tuple[float, float]:
     """A t in [-1, 1] with about *target* values below it (within *tol*) and its estimated
     count, by regula falsi with the Illinois step on the estimate, which rises with t."""
@@ -196,28 +213,35 @@ def _threshold(u: np.ndarray, v: np.ndarray, zeros: int, target: float,
     return t, ft + target
 
 
-def _window(u: np.ndarray, v: np.ndarray, lo: np.ndarray, hi: np.ndarray) -> np.ndarray:
+def _window(u: Rows, v: np.ndarray, lo: np.ndarray, hi: np.ndarray) -> np.ndarray:
     """The kernel values of the pairs lo_i <= j < hi_i, as the pairwise definition computes
-    them."""
+    them, listed by chunks of rows so that only the values themselves are held at once."""
     w = hi - lo
     active = np.flatnonzero(w)  # only rows with candidates left: no arrays of size p
     counts = w[active]
-    total = int(counts.sum())
-    rows = np.repeat(active.astype(lo.dtype), counts)
-    cols = np.arange(total, dtype=lo.dtype)
-    cols -= np.repeat((np.cumsum(counts) - counts).astype(lo.dtype), counts)
-    cols += np.repeat(lo[active], counts)
-    del active, counts
-    left = u[rows]
-    right = v[cols]
-    del rows, cols
-    vals = left + right  # the kernel (u + v) / (u - v), as _kernel computes it
-    np.subtract(left, right, out=left)
-    vals /= left
+    del w
+    vals = np.empty(int(counts.sum()))
+    ends = np.cumsum(counts)
+    start = 0
+    while start < active.size:
+        # rows whose pairs fill about one chunk (at least one row)
+        stop = max(start + 1, int(np.searchsorted(ends, ends[start] - counts[start] + _CHUNK)))
+        rows, c = active[start:stop], counts[start:stop]
+        first, total = int(ends[start] - c[0]), int(c.sum())
+        cols = np.arange(total, dtype=lo.dtype)
+        cols -= np.repeat((np.cumsum(c) - c).astype(lo.dtype), c)
+        cols += np.repeat(lo[rows], c)
+        left = np.repeat(u[rows], c)
+        right = v[cols]
+        out = vals[first:first + total]
+        np.add(left, right, out=out)  # the kernel (u + v) / (u - v), as _kernel computes it
+        np.subtract(left, right, out=left)
+        out /= left
+        start = stop
     return vals
 
 
-def _select_fast(u: np.ndarray, v: np.ndarray, zeros: int, r: int, r2: int,
+def _select_fast(u: Rows, v: np.ndarray, zeros: int, r: int, r2: int,
                  limit: int) -> tuple[float, float] | None:
     """The r-th and r2-th smallest (0-based, r2 in {r, r + 1}) of the kernel values
     h(i, j) = (u_i + v_j)/(u_i - v_j) together with *zeros* extra zeros; None when the
@@ -235,18 +259,13 @@ def _select_fast(u: np.ndarray, v: np.ndarray, zeros: int, r: int, r2: int,
         return None  # subnormal magnitudes would void the relative error bounds
     margin = 64 * _EPS
     # the estimate errs by about sqrt(p * group) pairs: place the cuts a few times that apart
-    spread = max(64.0, min(limit / 5, 8 * np.sqrt(p * _group(p))))
+    spread = max(64.0, min(limit / 6, 16 * np.sqrt(p * _group(p))))
     shift = 0.0  # what the estimates missed by, learnt from the exact cuts of a failed try
     for _ in range(3):
         tol = spread / 4
         want_a, want_b = r - spread - shift, r2 + 1 + spread - shift
         t_a, e_a = _threshold(u, v, zeros, want_a, tol)
         t_b, e_b = _threshold(u, v, zeros, want_b, tol)
-        if abs(e_a - want_a) > tol or abs(e_b - want_b) > tol:
-            # the count jumps over a target: many pairs share one value there
-            t = t_a if abs(e_a - want_a) > tol else t_b
-            return _tied(u, v, zeros, r, r2, _cuts(u, v, t - 1024 * _EPS),
-                         _cuts(u, v, t + 1024 * _EPS))
         lo = _cuts(u, v, t_a)
         hi = _cuts(u, v, t_b)
         np.maximum(hi, lo, out=hi)
@@ -256,23 +275,31 @@ def _select_fast(u: np.ndarray, v: np.ndarray, zeros: int, r: int, r2: int,
         if above - below > limit:  # crowded: many pairs share a value near the answer
             return _tied(u, v, zeros, r, r2, lo, hi)
         if not below <= r < r2 + 1 <= above:
+            if t_b - t_a <= 1024 * _EPS:
+                # both searches stopped at one jump of the count: the wanted ranks lie in a
+                # run of pairs that share one value there
+                del lo, hi
+                return _tied(u, v, zeros, r, r2, _cuts(u, v, t_a - 1024 * _EPS),
+                             _cuts(u, v, t_b + 1024 * _EPS))
             shift = ((below - e_a) + (above - e_b)) / 2
             spread *= 2
+            del lo, hi
             continue
         vals = _window(u, v, lo, hi)
-        del lo, hi
         if z_inside:
             vals = np.concatenate([vals, np.zeros(z_inside)])
         k, k2 = r - below, r2 - below
         vals = np.partition(vals, (k, k2))
         a, b = float(vals[k]), float(vals[k2])
+        del vals
         if a > t_a + margin and b < t_b - margin:
             return a, b
-        return None
+        # a value at the wanted ranks lies within rounding of a cut: ties there, most likely
+        return _tied(u, v, zeros, r, r2, lo, hi)
     return None
 
 
-def _tied(u: np.ndarray, v: np.ndarray, zeros: int, r: int, r2: int, lo: np.ndarray,
+def _tied(u: Rows, v: np.ndarray, zeros: int, r: int, r2: int, lo: np.ndarray,
           hi: np.ndarray) -> tuple[float, float] | None:
     """(c, c) when the ranks r..r2 hold one value c repeated by many pairs of the window
     lo_i <= j < hi_i; c is the median of a few pairs spread over the window, and two exact
@@ -291,7 +318,7 @@ def _tied(u: np.ndarray, v: np.ndarray, zeros: int, r: int, r2: int, lo: np.ndar
     return (c, c) if at_most > r2 else None
 
 
-def _select_exact(u: np.ndarray, v: np.ndarray, r: int,
+def _select_exact(u: Rows, v: np.ndarray, r: int,
             enumerate_limit: int = _ENUMERATE) -> tuple[float, float | None]:
     """The r-th smallest (0-based) of h(i, j) = (u_i + v_j)/(u_i - v_j) over all i, j, for
     ascending u > 0 and ascending v < 0, and the (r+1)-th when it is found on the way (else None).
@@ -358,7 +385,7 @@ def _select_exact(u: np.ndarray, v: np.ndarray, r: int,
     raise AssertionError("unreachable")  # pragma: no cover
 
 
-def _next_above(u: np.ndarray, v: np.ndarray, t: float) -> float:
+def _next_above(u: Rows, v: np.ndarray, t: float) -> float:
     """Smallest h(i, j) strictly greater than t (inf when there is none)."""
     c = _cut(u, v, t, False, np.zeros(u.size, dtype=np.int64),
              np.full(u.size, v.size, dtype=np.int64))
@@ -372,12 +399,14 @@ def medcouple_sorted(s: np.ndarray, *, enumerate_limit: int = _ENUMERATE) -> flo
     """Medcouple of ascending values *s* with no missing values (see the module notes)."""
     n = s.size
     require(n, 1, "the medcouple")
-    z = s - sorted_median(s)
-    first_zero = int(np.searchsorted(z, 0.0, side="left"))
-    past_zero = int(np.searchsorted(z, 0.0, side="right"))
+    med = sorted_median(s)
+    first_zero = int(np.searchsorted(s, med, side="left"))  # x - m < 0 exactly when x < m
+    past_zero = int(np.searchsorted(s, med, side="right"))
     k = past_zero - first_zero
-    u = z[past_zero:]  # views of z: values above and below the median, ascending
-    v = z[:first_zero]
+    # deviations above and below the median, ascending: the lower half as an array for the
+    # binary searches, the upper one formed block by block as rows are read
+    u = _Deviations(s[past_zero:], med)
+    v = s[:first_zero] - med
     p, q = u.size + k, v.size + k
     pairs = p * q
     n_minus = k * v.size + k * (k - 1) // 2

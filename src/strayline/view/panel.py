@@ -554,7 +554,7 @@ class Panel(W.VBox):
             if col == "__label__":
                 keys = pd.Series(s.frame.index[positions])
             elif col == "__score__":
-                keys = pd.Series(np.abs(s.evaluation().scores[positions]))
+                keys = pd.Series(np.abs(s.evaluation().scores_at(positions)))
             elif col == "__state__":
                 keys = pd.Series(s.states()[positions])
             else:
@@ -588,7 +588,7 @@ class Panel(W.VBox):
         names = [str(df.columns[i]) for i in shown]
         block = df.iloc[pick, shown] if shown else None
         states = s.states()[pick]
-        scores = s.evaluation().scores[pick]
+        scores = s.evaluation().scores_at(pick)
         reasons = s.reasons(pick)
         notes = s.notes()
         labels = df.index[pick]
