@@ -152,3 +152,37 @@ def test_constant_data_have_no_correlation():
     q = strayline.qq([2.0, 2.0, 2.0, 2.0])
     assert q.slope == 0.0 and q.intercept == 2.0
     assert np.isnan(q.r)
+
+
+@pytest.mark.parametrize("n", [1, 2, 3, 10, 11, 1000, 1001])
+def test_quantiles_held_as_a_half_read_like_the_whole_array(n):
+    half = strayline.NormalQuantiles(n)
+    full = stats.norm.ppf(strayline.plotting_positions(n))  # scipy, from the formula
+    np.testing.assert_allclose(np.asarray(half), full, rtol=1e-12, atol=1e-15)
+    whole = np.asarray(half)
+    assert len(half) == half.size == n and whole[0] == half[0] and whole[-1] == half[-1]
+    rng = np.random.default_rng(n)
+    idx = rng.integers(-n, n, 50)
+    np.testing.assert_array_equal(half[idx], whole[idx])
+    np.testing.assert_array_equal(half[::3], whole[::3])
+    mask = rng.random(n) < 0.5
+    np.testing.assert_array_equal(half[mask], whole[mask])
+    with pytest.raises(IndexError):
+        half[n]
+    with pytest.raises(IndexError):
+        half[np.array([0, n])]
+    for x in [*rng.normal(0, 2, 30), 0.0, *whole[: min(n, 5)], -np.inf, np.inf]:
+        for side in ("left", "right"):
+            assert half.searchsorted(x, side) == np.searchsorted(whole, x, side)
+
+
+@pytest.mark.parametrize("n", [3, 4, 501, 300_000])
+def test_the_line_from_the_half_equals_the_line_from_all_quantiles(n):
+    y = np.sort(RNG.lognormal(size=n))
+    from strayline.stats.qq import fit_line
+
+    a = fit_line(strayline.NormalQuantiles(n), y)
+    b = fit_line(strayline.normal_quantiles(n), y)
+    np.testing.assert_allclose(a, b, rtol=1e-12)
+    (_, _), (slope, intercept, r) = stats.probplot(y)
+    np.testing.assert_allclose(a, (slope, intercept, r), rtol=1e-11)

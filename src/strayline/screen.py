@@ -14,7 +14,7 @@ from . import evaluate as ev
 from .stats._input import to_float
 from .stats.location import moments, sorted_mad, sorted_median, sorted_quantile
 from .stats.normality import Normality, normality_sorted
-from .stats.qq import QQ, fit_line, normal_quantiles, qq_sorted
+from .stats.qq import QQ, NormalQuantiles, fit_line, qq_sorted
 from .stats.transform import DECREASING, TRANSFORMS, fit
 
 if TYPE_CHECKING:
@@ -507,9 +507,9 @@ class Screen:
             raise ValueError(f"a region needs numbers, got {bad}")
         x0, x1 = sorted((float(x0), float(x1)))
         y0, y1 = sorted((float(y0), float(y1)))
-        m = normal_quantiles(n, "filliben")
-        a = max(int(np.searchsorted(m, x0, "left")), int(np.searchsorted(ordered, y0, "left")))
-        b = min(int(np.searchsorted(m, x1, "right")), int(np.searchsorted(ordered, y1, "right")))
+        m = NormalQuantiles(n, "filliben")
+        a = max(m.searchsorted(x0, "left"), int(np.searchsorted(ordered, y0, "left")))
+        b = min(m.searchsorted(x1, "right"), int(np.searchsorted(ordered, y1, "right")))
         return a, max(a, b)
 
     def mark_region(self, x0: float, x1: float, y0: float, y1: float, mode: str = "replace",
@@ -715,7 +715,7 @@ class Screen:
                 if not np.isfinite(values).all():
                     raise ValueError("values overflow on this scale")
                 skew = moments(values).skewness
-                r = fit_line(normal_quantiles(values.size, "filliben"), values)[2]
+                r = fit_line(NormalQuantiles(values.size, "filliben"), values)[2]
                 out.append(TransformComparison(kind, lm, skew, r))
             except ValueError as exc:
                 out.append(TransformComparison(kind, None, float("nan"), float("nan"), str(exc)))
@@ -738,7 +738,7 @@ class Screen:
                 cached = qq_sorted(o, order=order)
             else:  # too few points for a line: coordinates only
                 nan = float("nan")
-                m = normal_quantiles(o.size) if o.size else np.empty(0)
+                m = NormalQuantiles(o.size)
                 cached = QQ(m, o, order, nan, nan, nan, "filliben", "fit")
             if len(self._qq) > 8:
                 self._qq.clear()

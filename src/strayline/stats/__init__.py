@@ -7,7 +7,7 @@ cannot handle with a ValueError or TypeError that names the problem and the fix.
 from .location import MAD_TO_SD, Moments, moments
 from .medcouple import medcouple
 from .normality import AndersonDarling, Normality, TestResult, normality
-from .qq import POSITIONS, QQ, normal_quantiles, plotting_positions, qq
+from .qq import POSITIONS, QQ, NormalQuantiles, normal_quantiles, plotting_positions, qq
 from .rules import (
     GESD,
     RULES,
@@ -27,8 +27,8 @@ from .transform import TRANSFORMS, Transformed, transform
 
 __all__ = [
     "GESD", "MAD_TO_SD", "POSITIONS", "QQ", "RULES", "TRANSFORMS", "AdjustedFences",
-    "AndersonDarling", "Fences", "Flags", "Grubbs", "Moments", "Normality", "TestResult",
-    "Transformed", "adjusted_fences", "fences", "flag", "gesd", "grubbs", "medcouple",
-    "moments", "normal_quantiles", "normality", "plotting_positions", "qq", "robust_zscores",
-    "transform", "zscores",
+    "AndersonDarling", "Fences", "Flags", "Grubbs", "Moments", "NormalQuantiles", "Normality",
+    "TestResult", "Transformed", "adjusted_fences", "fences", "flag", "gesd", "grubbs",
+    "medcouple", "moments", "normal_quantiles", "normality", "plotting_positions", "qq",
+    "robust_zscores", "transform", "zscores",
 ]

@@ -34,6 +34,7 @@ References
 
 from __future__ import annotations
 
+from dataclasses import dataclass
 from typing import Any
 
 import numpy as np
@@ -42,7 +43,7 @@ from ._input import column, require, scale_exponent
 from .location import sorted_median
 
 _ENUMERATE = 1 << 21
-_CHUNK = 1 << 18
+_CHUNK = 1 << 16
 _SAMPLE = 1 << 19
 _BLOCK = 1 << 19
 _STRETCH = 1 << 12
@@ -213,24 +214,51 @@ def _threshold(u: Rows, v: np.ndarray, zeros: int, target: float,
     return t, ft + target
 
 
-def _window(u: Rows, v: np.ndarray, lo: np.ndarray, hi: np.ndarray) -> np.ndarray:
-    """The kernel values of the pairs lo_i <= j < hi_i, as the pairwise definition computes
-    them, listed by chunks of rows so that only the values themselves are held at once."""
-    w = hi - lo
-    active = np.flatnonzero(w)  # only rows with candidates left: no arrays of size p
-    counts = w[active]
-    del w
-    vals = np.empty(int(counts.sum()))
-    ends = np.cumsum(counts)
+@dataclass(frozen=True)
+class _Band:
+    """The pairs lo_i <= j < lo_i + w_i between two cuts: lo for every row, and only the rows
+    whose band is not empty with their widths w (so the band costs one array of rows)."""
+
+    lo: np.ndarray
+    rows: np.ndarray
+    widths: np.ndarray
+    below: int  # pairs under the band, Σ lo
+    size: int  # pairs in it, Σ w
+
+
+def _band(u: Rows, v: np.ndarray, t_a: float, t_b: float) -> _Band:
+    """The pairs between the cuts at t_a and at t_b (see :func:`_cuts`)."""
+    lo = _cuts(u, v, t_a)
+    rows, widths = [], []
+    for start in range(0, u.size, _BLOCK):
+        w = _cuts(u, v, t_b, slice(start, start + _BLOCK))
+        w -= lo[start:start + w.size]
+        np.maximum(w, 0, out=w)
+        nz = np.flatnonzero(w).astype(lo.dtype)
+        widths.append(w[nz])
+        nz += start
+        rows.append(nz)
+    r = np.concatenate(rows) if rows else np.empty(0, dtype=lo.dtype)
+    w = np.concatenate(widths) if widths else np.empty(0, dtype=lo.dtype)
+    return _Band(lo, r, w, int(lo.sum(dtype=np.int64)), int(w.sum(dtype=np.int64)))
+
+
+def _window(u: Rows, v: np.ndarray, band: _Band) -> np.ndarray:
+    """The kernel values of the pairs in *band*, as the pairwise definition computes them,
+    listed by chunks of rows so that only the values themselves are held at once."""
+    active, counts = band.rows, band.widths
+    vals = np.empty(band.size)
+    ends = np.cumsum(counts, dtype=np.int64)
     start = 0
     while start < active.size:
         # rows whose pairs fill about one chunk (at least one row)
         stop = max(start + 1, int(np.searchsorted(ends, ends[start] - counts[start] + _CHUNK)))
         rows, c = active[start:stop], counts[start:stop]
         first, total = int(ends[start] - c[0]), int(c.sum())
-        cols = np.arange(total, dtype=lo.dtype)
-        cols -= np.repeat((np.cumsum(c) - c).astype(lo.dtype), c)
-        cols += np.repeat(lo[rows], c)
+        dtype = band.lo.dtype
+        cols = np.arange(total, dtype=dtype)
+        cols -= np.repeat((np.cumsum(c) - c).astype(dtype), c)
+        cols += np.repeat(band.lo[rows], c)
         left = np.repeat(u[rows], c)
         right = v[cols]
         out = vals[first:first + total]
@@ -261,55 +289,59 @@ def _select_fast(u: Rows, v: np.ndarray, zeros: int, r: int, r2: int,
     # the estimate errs by about sqrt(p * group) pairs: place the cuts a few times that apart
     spread = max(64.0, min(limit / 6, 16 * np.sqrt(p * _group(p))))
     shift = 0.0  # what the estimates missed by, learnt from the exact cuts of a failed try
-    for _ in range(3):
-        tol = spread / 4
-        want_a, want_b = r - spread - shift, r2 + 1 + spread - shift
-        t_a, e_a = _threshold(u, v, zeros, want_a, tol)
-        t_b, e_b = _threshold(u, v, zeros, want_b, tol)
-        lo = _cuts(u, v, t_a)
-        hi = _cuts(u, v, t_b)
-        np.maximum(hi, lo, out=hi)
+    t_a = t_b = e_a = e_b = np.nan
+    for _ in range(4):
+        if np.isnan(t_a):
+            tol = spread / 4
+            t_a, e_a = _threshold(u, v, zeros, r - spread - shift, tol)
+            t_b, e_b = _threshold(u, v, zeros, r2 + 1 + spread - shift, tol)
+        band = _band(u, v, t_a, t_b)
         z_below, z_inside = (zeros, 0) if t_a > 0 else ((0, zeros) if t_b > 0 else (0, 0))
-        below = int(lo.sum(dtype=np.int64)) + z_below
-        above = int(hi.sum(dtype=np.int64)) + z_below + z_inside
+        below = band.below + z_below
+        above = below + band.size + z_inside
         if above - below > limit:  # crowded: many pairs share a value near the answer
-            return _tied(u, v, zeros, r, r2, lo, hi)
+            return _tied(u, v, zeros, r, r2, band)
         if not below <= r < r2 + 1 <= above:
             if t_b - t_a <= 1024 * _EPS:
                 # both searches stopped at one jump of the count: the wanted ranks lie in a
                 # run of pairs that share one value there
-                del lo, hi
-                return _tied(u, v, zeros, r, r2, _cuts(u, v, t_a - 1024 * _EPS),
-                             _cuts(u, v, t_b + 1024 * _EPS))
+                del band
+                return _tied(u, v, zeros, r, r2,
+                             _band(u, v, t_a - 1024 * _EPS, t_b + 1024 * _EPS))
             shift = ((below - e_a) + (above - e_b)) / 2
             spread *= 2
-            del lo, hi
+            t_a = np.nan
+            del band
             continue
-        vals = _window(u, v, lo, hi)
+        vals = _window(u, v, band)
         if z_inside:
             vals = np.concatenate([vals, np.zeros(z_inside)])
         k, k2 = r - below, r2 - below
         vals = np.partition(vals, (k, k2))
         a, b = float(vals[k]), float(vals[k2])
-        del vals
+        del vals, band
         if a > t_a + margin and b < t_b - margin:
             return a, b
-        # a value at the wanted ranks lies within rounding of a cut: ties there, most likely
-        return _tied(u, v, zeros, r, r2, lo, hi)
+        # a wanted value lies within rounding of a cut (a search stopped at a run of equal
+        # values there): move that cut past it and list the window again
+        if a <= t_a + margin:
+            t_a = a - 2 * margin
+        if b >= t_b - margin:
+            t_b = b + 2 * margin
     return None
 
 
-def _tied(u: Rows, v: np.ndarray, zeros: int, r: int, r2: int, lo: np.ndarray,
-          hi: np.ndarray) -> tuple[float, float] | None:
-    """(c, c) when the ranks r..r2 hold one value c repeated by many pairs of the window
-    lo_i <= j < hi_i; c is the median of a few pairs spread over the window, and two exact
-    counts of the pairs below c and at most c decide (None: they do not)."""
-    w = hi - lo
-    rows = np.flatnonzero(w)
-    if not rows.size:
+def _tied(u: Rows, v: np.ndarray, zeros: int, r: int, r2: int,
+          band: _Band) -> tuple[float, float] | None:
+    """(c, c) when the ranks r..r2 hold one value c repeated by many pairs of *band*; c is
+    the median of a few pairs spread over the band, and two exact counts of the pairs below c
+    and at most c decide (None: they do not)."""
+    if not band.rows.size:
         return None
-    pick = rows[np.linspace(0, rows.size - 1, 65).astype(np.int64)]
-    c = float(np.median(_kernel(u[pick], v[lo[pick] + w[pick] // 2])))
+    k = np.linspace(0, band.rows.size - 1, 65).astype(np.int64)
+    pick = band.rows[k]
+    c = float(np.median(_kernel(u[pick], v[band.lo[pick] + band.widths[k] // 2])))
+    lo = band.lo
     whole = (np.zeros(u.size, dtype=lo.dtype), np.full(u.size, v.size, dtype=lo.dtype))
     less = int(_cut(u, v, c, True, *whole).sum(dtype=np.int64)) + (zeros if c > 0 else 0)
     if less > r:

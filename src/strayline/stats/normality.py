@@ -12,7 +12,7 @@ from scipy import stats as sps
 
 from ._input import column, require, rescaled
 from .location import Moments, moments
-from .qq import fit_line, normal_quantiles
+from .qq import NormalQuantiles, fit_line
 
 #: Shapiro–Wilk is computed up to this n; beyond it scipy's p-value is not reliable.
 SHAPIRO_MAX_N = 5000
@@ -175,7 +175,7 @@ def normality_sorted(s: np.ndarray, *, ppcc: float | None = None) -> Normality:
     dago = dagostino_pearson(m) if n >= 20 else None
     ad = anderson_sorted(s, m.mean, m.sd)
     if ppcc is None:
-        ppcc = fit_line(normal_quantiles(n, "filliben"), s)[2]
+        ppcc = fit_line(NormalQuantiles(n, "filliben"), s)[2]
     return Normality(n=n, shapiro=shapiro, anderson=ad, dagostino=dago, skewness=m.skewness,
                      excess_kurtosis=m.excess_kurtosis, ppcc=float(ppcc))
 

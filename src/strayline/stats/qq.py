@@ -9,7 +9,7 @@ from typing import Any, Literal
 import numpy as np
 from scipy import special
 
-from ._input import column, require, scale_exponent
+from ._input import column, require, rescaled
 
 Positions = Literal["filliben", "blom", "weibull", "hazen"]
 POSITIONS: tuple[str, ...] = ("filliben", "blom", "weibull", "hazen")
@@ -50,30 +50,32 @@ def plotting_positions(n: int, positions: str = "filliben") -> np.ndarray:
     return (i - 0.5) / n
 
 
+_BLOCK = 1 << 18
+
+
 @lru_cache(maxsize=8)
-def _normal_quantiles(n: int, positions: str) -> np.ndarray:
-    # every rule is symmetric, p_{n+1-i} = 1 - p_i, so only the lower half is computed and the
-    # upper half mirrors it
+def _lower_quantiles(n: int, positions: str) -> np.ndarray:
+    """m_1..m_h, h = ceil(n/2), of :class:`NormalQuantiles` (read-only), formed by blocks."""
     half = (n + 1) // 2
-    m = np.empty(n)
-    lower = m[:half]
-    lower[:] = plotting_positions(half, positions) if n == half else _lower_positions(
-        n, half, positions)
-    special.ndtri(lower, out=lower)
-    m[half:] = -m[: n - half][::-1]
+    lower = np.empty(half)
+    for start in range(0, half, _BLOCK):
+        stop = min(half, start + _BLOCK)
+        lower[start:stop] = _lower_positions(n, start, stop, positions)
+        special.ndtri(lower[start:stop], out=lower[start:stop])
     if n % 2:
-        m[half - 1] = 0.0
-    m.flags.writeable = False
-    return m
+        lower[-1] = 0.0  # the middle position is 1/2 in every rule
+    lower.flags.writeable = False
+    return lower
 
 
-def _lower_positions(n: int, half: int, positions: str) -> np.ndarray:
-    """p_1..p_half of :func:`plotting_positions` for n values, without forming all n."""
-    p = np.arange(1, half + 1, dtype=float)
+def _lower_positions(n: int, start: int, stop: int, positions: str) -> np.ndarray:
+    """p_{start+1}..p_stop of :func:`plotting_positions` for n values (stop <= ceil(n/2))."""
+    p = np.arange(start + 1, stop + 1, dtype=float)
     if positions == "filliben":
         p -= 0.3175
         p /= n + 0.365
-        p[0] = 1.0 - 0.5 ** (1.0 / n)
+        if start == 0:
+            p[0] = 1.0 - 0.5 ** (1.0 / n)
     elif positions == "blom":
         p -= 0.375
         p /= n + 0.25
@@ -85,11 +87,80 @@ def _lower_positions(n: int, half: int, positions: str) -> np.ndarray:
     return p
 
 
+class NormalQuantiles:
+    """The n standard normal quantiles of the plotting positions, ascending, held as their
+    lower half: every rule is symmetric, p_{n+1-i} = 1 - p_i, so m_{n+1-i} = -m_i.
+
+    Reads like a read-only array (indexing, ``len``, ``numpy.asarray``, which forms all n);
+    :meth:`searchsorted` and :func:`fit_line` use the half directly. Depends on n alone and is
+    cached by n.
+    """
+
+    def __init__(self, n: int, positions: str = "filliben") -> None:
+        if positions not in POSITIONS:
+            raise ValueError(f"positions must be one of {POSITIONS}, got {positions!r}")
+        self.n, self.positions = int(n), positions
+        self.lower = _lower_quantiles(self.n, positions) if self.n else np.empty(0)
+
+    @property
+    def size(self) -> int:
+        return self.n
+
+    @property
+    def shape(self) -> tuple[int]:
+        return (self.n,)
+
+    def __len__(self) -> int:
+        return self.n
+
+    def __array__(self, dtype: Any = None, copy: Any = None) -> np.ndarray:
+        n, h = self.n, self.lower.size
+        out = np.empty(n, dtype=float)
+        out[:h] = self.lower
+        out[h:] = -self.lower[:n - h][::-1]
+        return out if dtype is None else out.astype(dtype)
+
+    def __getitem__(self, key: Any) -> Any:
+        n, h, lower = self.n, self.lower.size, self.lower
+        if isinstance(key, (int, np.integer)):
+            k = int(key) + (n if key < 0 else 0)
+            if not 0 <= k < n:
+                raise IndexError(f"index {int(key)} is out of bounds for {n} quantiles")
+            return lower[k] if k < h else -lower[n - 1 - k]
+        if isinstance(key, slice):
+            return np.asarray(self)[key]
+        k = np.asarray(key)
+        if k.dtype == bool:
+            k = np.flatnonzero(k)
+        k = np.where(k < 0, k + n, k)
+        if k.size and (k.min() < 0 or k.max() >= n):
+            raise IndexError(f"an index is out of bounds for {n} quantiles")
+        out = np.empty(k.shape)
+        low = k < h
+        out[low] = lower[k[low]]
+        out[~low] = -lower[n - 1 - k[~low]]
+        return out
+
+    def searchsorted(self, x: float, side: str = "left") -> int:
+        """As ``numpy.searchsorted`` on the n quantiles."""
+        h, rest = self.lower.size, self.n - self.lower.size
+        below = int(np.searchsorted(self.lower, x, side))
+        # the upper part -lower[rest - 1], ..., -lower[0]: -lower[i] < x iff lower[i] > -x
+        other = "right" if side == "left" else "left"
+        if below < h:
+            return below
+        return h + rest - int(np.searchsorted(self.lower[:rest], -x, other))
+
+    def __repr__(self) -> str:
+        return f"NormalQuantiles(n={self.n}, positions={self.positions!r})"
+
+
 def normal_quantiles(n: int, positions: str = "filliben") -> np.ndarray:
-    """Standard normal quantiles of the plotting positions (cached by n; read-only)."""
-    if positions not in POSITIONS:
-        raise ValueError(f"positions must be one of {POSITIONS}, got {positions!r}")
-    return _normal_quantiles(int(n), positions)
+    """Standard normal quantiles of the plotting positions, as a read-only array (formed from
+    the cached lower half of :class:`NormalQuantiles`)."""
+    out = np.asarray(NormalQuantiles(int(n), positions))
+    out.flags.writeable = False
+    return out
 
 
 @dataclass(frozen=True)
@@ -98,7 +169,8 @@ class QQ:
 
     Attributes
     ----------
-    theoretical : standard normal quantiles of the plotting positions (x axis).
+    theoretical : standard normal quantiles of the plotting positions (x axis), a
+        :class:`NormalQuantiles` (read-only, array-like; ``numpy.asarray`` gives all n).
     ordered : the sorted non-missing values (y axis).
     order : positions in the input of the sorted values (``x[order] == ordered``).
     slope, intercept : the reference line ``y = intercept + slope * theoretical``.
@@ -106,7 +178,7 @@ class QQ:
     positions, line : the plotting-position rule and the reference line used.
     """
 
-    theoretical: np.ndarray
+    theoretical: NormalQuantiles
     ordered: np.ndarray
     order: np.ndarray
     slope: float
@@ -120,28 +192,38 @@ class QQ:
                 f"intercept={self.intercept:.6g}, r={self.r:.6f}, positions={self.positions!r})")
 
 
-_BLOCK = 1 << 18
-
-
-def fit_line(theoretical: np.ndarray, ordered: np.ndarray) -> tuple[float, float, float]:
+def fit_line(theoretical: np.ndarray | NormalQuantiles,
+             ordered: np.ndarray) -> tuple[float, float, float]:
     """Least-squares line of ordered on theoretical and their correlation (slope, intercept, r),
     as ``scipy.stats.probplot(..., fit=True)`` computes them.
 
-    The sums of squared and crossed deviations are formed block by block on values scaled by one
-    power of two (exact), so nothing overflows and the working memory stays small."""
-    e = scale_exponent(ordered)
-    n = ordered.size
-    mx = float(theoretical.mean())
-    my = float(np.ldexp(ordered, -e).mean()) if n <= _BLOCK else float(
-        sum(np.ldexp(ordered[i:i + _BLOCK], -e).sum() for i in range(0, n, _BLOCK)) / n)
-    sxx = sxy = syy = 0.0
+    The sums of squared and crossed deviations are formed block by block (on values scaled by
+    a power of two near the float limits, which is exact), so nothing overflows and the working
+    memory stays small. With :class:`NormalQuantiles` their symmetry is used: the mean of the
+    quantiles is 0, Σ m² = 2 Σ_lower m² and Σ m y = Σ_lower m_i (y_i - y_{n+1-i})."""
+    y, e = rescaled(ordered, ascending=True)
+    n = y.size
+    my = float(y.mean())
+    syy = 0.0
     for i in range(0, n, _BLOCK):
-        dx = theoretical[i:i + _BLOCK] - mx
-        dy = np.ldexp(ordered[i:i + _BLOCK], -e)
-        dy -= my
-        sxx += float(dx @ dx)
-        sxy += float(dx @ dy)
+        dy = y[i:i + _BLOCK] - my
         syy += float(dy @ dy)
+    if isinstance(theoretical, NormalQuantiles):
+        mx = 0.0
+        lower = theoretical.lower
+        rest = n - lower.size  # pairs (i, n - 1 - i) with i < rest; an odd middle has m = 0
+        sxx = 2.0 * float(lower @ lower)
+        sxy = 0.0
+        for i in range(0, rest, _BLOCK):
+            j = min(rest, i + _BLOCK)
+            sxy += float(lower[i:j] @ (y[i:j] - y[n - j:n - i][::-1]))
+    else:
+        mx = float(theoretical.mean())
+        sxx = sxy = 0.0
+        for i in range(0, n, _BLOCK):
+            dx = theoretical[i:i + _BLOCK] - mx
+            sxx += float(dx @ dx)
+            sxy += float(dx @ (y[i:i + _BLOCK] - my))
     slope = sxy / sxx
     intercept = float(my - slope * mx)
     r = sxy / np.sqrt(sxx * syy) if syy > 0 else np.nan
@@ -166,7 +248,7 @@ def qq_sorted(ordered: np.ndarray, positions: str = "filliben", line: str = "fit
         raise ValueError(f"line must be one of {LINES}, got {line!r}")
     n = ordered.size
     require(n, 3, "a Q–Q plot")
-    m = normal_quantiles(n, positions)
+    m = NormalQuantiles(n, positions)
     slope, intercept, r = fit_line(m, ordered)
     if line == "quartiles":
         slope, intercept = quartile_line(ordered)
