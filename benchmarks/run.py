@@ -72,7 +72,7 @@ def full_screen(x: np.ndarray) -> None:
     rules.sorted_adjusted_fences(s, 1.5)
     med, mad = rules.robust_center_scale(s)
     (x - med) / mad
-    mean, sd = rules.zscore_center_scale(s)
+    mean, sd = rules.zscore_center_scale(s, ascending=True)
     (x - mean) / sd
     location.moments(s, ascending=True)
     normality_sorted(s, ppcc=r)
