@@ -186,32 +186,38 @@ def _estimate(u: Rows, v: np.ndarray, zeros: int, t: float) -> float:
     return float(cuts @ weights) + (zeros if t > 0 else 0)
 
 
-def _threshold(u: Rows, v: np.ndarray, zeros: int, target: float,
-               tol: float) -> tuple[float, float]:
-    """A t in [-1, 1] with about *target* values below it (within *tol*) and its estimated
-    count, by regula falsi with the Illinois step on the estimate, which rises with t."""
-    a, b = -1.0, 1.0
-    fa, fb = -target, float(u.size * v.size + zeros) - target
+def _threshold(u: Rows, v: np.ndarray, zeros: int, target: float, tol: float,
+               start: tuple[float, float, float, float] | None = None
+               ) -> tuple[float, float, tuple[float, float, float, float]]:
+    """A t in [-1, 1] with about *target* values below it (within *tol*), its estimated count,
+    and the last bracket (t, count, t, count) around the target; by regula falsi with the
+    Illinois step on the estimate, which rises with t, from *start* when it brackets the
+    target (else from [-1, 1])."""
+    a, ea, b, eb = (-1.0, 0.0, 1.0, float(u.size * v.size + zeros))
+    if start is not None and start[1] <= target <= start[3]:
+        a, ea, b, eb = start
+    fa, fb = ea - target, eb - target
     side = 0
-    t = 0.0
+    t, et = a, ea
     for _ in range(100):
         t = (a * fb - b * fa) / (fb - fa) if fb != fa else 0.5 * (a + b)
         if not a < t < b:
             t = 0.5 * (a + b)
-        ft = _estimate(u, v, zeros, t) - target
+        et = _estimate(u, v, zeros, t)
+        ft = et - target
         if abs(ft) <= tol or b - a <= 8 * _EPS * max(1.0, abs(t)):
             break
         if ft < 0:
-            a, fa = t, ft
+            a, fa, ea = t, ft, et
             if side == -1:
                 fb *= 0.5
             side = -1
         else:
-            b, fb = t, ft
+            b, fb, eb = t, ft, et
             if side == 1:
                 fa *= 0.5
             side = 1
-    return t, ft + target
+    return t, et, (a, ea, b, eb)
 
 
 @dataclass(frozen=True)
@@ -293,8 +299,10 @@ def _select_fast(u: Rows, v: np.ndarray, zeros: int, r: int, r2: int,
     for _ in range(4):
         if np.isnan(t_a):
             tol = spread / 4
-            t_a, e_a = _threshold(u, v, zeros, r - spread - shift, tol)
-            t_b, e_b = _threshold(u, v, zeros, r2 + 1 + spread - shift, tol)
+            t_a, e_a, (_, _, b, eb) = _threshold(u, v, zeros, r - spread - shift, tol)
+            # the second search starts from the first one's point and its upper end
+            t_b, e_b, _ = _threshold(u, v, zeros, r2 + 1 + spread - shift, tol,
+                                     (t_a, e_a, b, eb) if e_a > 0 else None)
         band = _band(u, v, t_a, t_b)
         z_below, z_inside = (zeros, 0) if t_a > 0 else ((0, zeros) if t_b > 0 else (0, 0))
         below = band.below + z_below
