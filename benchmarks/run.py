@@ -74,8 +74,7 @@ def full_screen(x: np.ndarray) -> None:
     (x - med) / mad
     mean, sd = rules.zscore_center_scale(s, ascending=True)
     (x - mean) / sd
-    location.moments(s, ascending=True)
-    normality_sorted(s, ppcc=r)
+    normality_sorted(s, ppcc=r, m=location.moments(s, ascending=True))
 
 
 def bench_full(sizes: list[int], rng: np.random.Generator) -> None:
@@ -179,15 +178,17 @@ def bench_region(sizes: list[int], rng: np.random.Generator) -> None:
             s.mark_region(0.5 + k * 0.1, 2.0, -10, 10, mode="replace")
 
         t = timed(region, 5)
-        report("mark_region", n, t, base, "numpy boolean pass", "<= 5x slower", t / base <= 5)
+        big = n >= 10**6  # the target is set at a million rows and more
+        report("mark_region", n, t, base, "numpy boolean pass", "<= 5x slower (1e6+)",
+               t / base <= 5 if big else None)
 
         def mask(s: strayline.Screen = s) -> None:
             s._changed("x")
             s.mask_array()
 
         t = timed(mask, 5)
-        report("mask recomputation", n, t, base, "numpy boolean pass", "<= 5x slower",
-               t / base <= 5)
+        report("mask recomputation", n, t, base, "numpy boolean pass", "<= 5x slower (1e6+)",
+               t / base <= 5 if big else None)
 
 
 def bench_bytes(sizes: list[int], rng: np.random.Generator) -> None:
@@ -242,8 +243,9 @@ def bench_memory(n: int, rng: np.random.Generator) -> None:
     _, peak = tracemalloc.get_traced_memory()
     tracemalloc.stop()
     ratio = peak / x.nbytes
+    mark = "" if n < 10**7 else ("ok" if ratio <= 4 else "SHORT")  # the target is set at 1e7
     print(f"{'peak memory':<34} n={n:>10,}  {peak / 1e6:9.1f} MB  column {x.nbytes / 1e6:.1f} MB"
-          f"  ratio {ratio:5.2f}  target <= 4x  {'ok' if ratio <= 4 else 'SHORT'}")
+          f"  ratio {ratio:5.2f}  target <= 4x (1e7)  {mark}")
 
 
 def main(argv: list[str] | None = None) -> int:

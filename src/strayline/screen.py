@@ -684,7 +684,7 @@ class Screen:
             med = sorted_median(o)
             q1, q3 = sorted_quantile(o, 0.25), sorted_quantile(o, 0.75)
             try:  # the Q–Q plot's r (Filliben positions) is the PPCC
-                norm, err = normality_sorted(o, ppcc=self.qq_coordinates(c).r), ""
+                norm, err = normality_sorted(o, ppcc=self.qq_coordinates(c).r, m=m), ""
             except ValueError as exc:
                 norm, err = None, str(exc)
             out = Summary(c, ev.scale_name(s.transform), n, self._n - n, m.mean, m.sd, med,

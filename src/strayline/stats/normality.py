@@ -157,17 +157,19 @@ def _ad_pvalue(a2: float, n: int) -> float:
     return float(min(max(p, 0.0), 1.0))
 
 
-def normality_sorted(s: np.ndarray, *, ppcc: float | None = None) -> Normality:
-    """:func:`normality` for ascending values with no missing values; *ppcc* is the Q–Q
-    plot's r with Filliben positions when the caller has it."""
+def normality_sorted(s: np.ndarray, *, ppcc: float | None = None,
+                     m: Moments | None = None) -> Normality:
+    """:func:`normality` for ascending values with no missing values; *ppcc* (the Q–Q plot's
+    r with Filliben positions) and *m* (:func:`moments` of *s*) when the caller has them."""
     n = s.size
     require(n, 3, "normality diagnostics")
     if s[0] == s[-1]:
         raise ValueError("normality diagnostics need values that are not all equal")
     # every result is scale-free: near the float limits work on values scaled by a power of
     # two (exact), so that sums of squares cannot overflow
-    s = rescaled(s, 240, ascending=True)[0]
-    m = moments(s, ascending=True)
+    s, e = rescaled(s, 240, ascending=True)
+    if m is None or e:
+        m = moments(s, ascending=True)
     shapiro = None
     if n <= SHAPIRO_MAX_N:
         w, p = sps.shapiro(s)
