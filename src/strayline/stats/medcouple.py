@@ -39,82 +39,15 @@ from typing import Any
 
 import numpy as np
 
+from ._exact_selection import BLOCK, Deviations, Rows, cut, kernel, next_above, select_exact
 from ._input import column, require, scale_exponent
 from .location import sorted_median
 
 _ENUMERATE = 1 << 21
 _CHUNK = 1 << 16
-_SAMPLE = 1 << 19
-_BLOCK = 1 << 19
 _STRETCH = 1 << 12
 _EPS = float(np.finfo(float).eps)
 _NORMAL = 2.0**-900  # far above the subnormal range even after products with slopes
-
-
-def _kernel(u: np.ndarray, v: np.ndarray) -> np.ndarray:
-    return (u + v) / (u - v)
-
-
-def _cut(u: Rows, v: np.ndarray, t: float, strict: bool, lo: np.ndarray,
-         hi: np.ndarray) -> np.ndarray:
-    """Per row i, how many columns j have h(i, j) < t (strict) or <= t, clipped to [lo, hi];
-    rows are taken in blocks so that the working memory stays small."""
-    out = np.empty(u.size, dtype=lo.dtype)
-    for start in range(0, u.size, _BLOCK):
-        rows = slice(start, start + _BLOCK)
-        out[rows] = _cut_block(u[rows], v, t, strict, lo[rows], hi[rows])
-    return out
-
-
-def _cut_block(u: np.ndarray, v: np.ndarray, t: float, strict: bool, lo: np.ndarray,
-               hi: np.ndarray) -> np.ndarray:
-    """:func:`_cut` for one block of rows.
-
-    h < t  <=>  v_j < u_i (t - 1)/(t + 1), so a binary search per row finds the cut; the cut is
-    then checked against the kernel itself so that the counts agree with the values selected.
-    """
-    with np.errstate(divide="ignore", invalid="ignore"):
-        g = (t - 1.0) / (t + 1.0) if t > -1.0 else -np.inf
-        thr = u * g
-    side = "left" if strict else "right"
-    c = np.searchsorted(v, thr[::-1], side=side)[::-1]
-    np.clip(c, lo, hi, out=c)
-    q = v.size
-    # The binary search compared v_j with a rounded threshold; only rows whose neighbours of the
-    # cut lie within a few ulps of it can disagree with the kernel, so only those are checked.
-    tol = 16 * np.finfo(float).eps * np.abs(thr) + np.finfo(float).tiny
-    above = v[np.minimum(c, q - 1)]
-    under = v[np.maximum(c - 1, 0)]
-    near = (c < np.minimum(hi, q)) & (np.abs(above - thr) <= tol)
-    near |= (c > lo) & (np.abs(under - thr) <= tol)
-    rows = np.flatnonzero(near)
-    if rows.size:
-        c[rows] = _fix_cut(u, v, t, strict, c[rows], lo[rows], hi[rows], rows)
-    return c
-
-
-def _fix_cut(u: Rows, v: np.ndarray, t: float, strict: bool, c: np.ndarray,
-             lo: np.ndarray, hi: np.ndarray, rows: np.ndarray) -> np.ndarray:
-    """Move cuts so that they agree with the kernel values themselves (ties and rounding)."""
-    q = v.size
-
-    def below(k: np.ndarray, j: np.ndarray) -> np.ndarray:
-        h = _kernel(u[rows[k]], v[j])
-        return h < t if strict else h <= t
-
-    for _ in range(64):  # up over values that still count as below t
-        k = np.flatnonzero(c < np.minimum(hi, q))
-        k = k[below(k, c[k])]
-        if not k.size:
-            break
-        c[k] = np.minimum(np.searchsorted(v, v[c[k]], side="right"), hi[k])
-    for _ in range(64):  # down over values that do not
-        k = np.flatnonzero(c > lo)
-        k = k[~below(k, c[k] - 1)]
-        if not k.size:
-            break
-        c[k] = np.maximum(np.searchsorted(v, v[c[k] - 1], side="left"), lo[k])
-    return c
 
 
 def _slope(t: float) -> float:
@@ -124,20 +57,6 @@ def _slope(t: float) -> float:
     if t >= 1.0:
         return 0.0
     return (t - 1.0) / (t + 1.0)
-
-
-class _Deviations:
-    """x - m for ascending values x, formed on demand for the rows indexed, so that the
-    longer half of the deviations from the median is never held in memory at once."""
-
-    def __init__(self, x: np.ndarray, m: float) -> None:
-        self.x, self.m, self.size = x, m, x.size
-
-    def __getitem__(self, key: Any) -> Any:
-        return self.x[key] - self.m
-
-
-Rows = np.ndarray | _Deviations  # the deviations above the median, by row
 
 
 def _cuts(u: Rows, v: np.ndarray, t: float, rows: slice = slice(None)) -> np.ndarray:
@@ -236,8 +155,8 @@ def _band(u: Rows, v: np.ndarray, t_a: float, t_b: float) -> _Band:
     """The pairs between the cuts at t_a and at t_b (see :func:`_cuts`)."""
     lo = _cuts(u, v, t_a)
     rows, widths = [], []
-    for start in range(0, u.size, _BLOCK):
-        w = _cuts(u, v, t_b, slice(start, start + _BLOCK))
+    for start in range(0, u.size, BLOCK):
+        w = _cuts(u, v, t_b, slice(start, start + BLOCK))
         w -= lo[start:start + w.size]
         np.maximum(w, 0, out=w)
         nz = np.flatnonzero(w).astype(lo.dtype)
@@ -268,7 +187,7 @@ def _window(u: Rows, v: np.ndarray, band: _Band) -> np.ndarray:
         left = np.repeat(u[rows], c)
         right = v[cols]
         out = vals[first:first + total]
-        np.add(left, right, out=out)  # the kernel (u + v) / (u - v), as _kernel computes it
+        np.add(left, right, out=out)  # the kernel (u + v) / (u - v), as kernel computes it
         np.subtract(left, right, out=left)
         out /= left
         start = stop
@@ -348,91 +267,14 @@ def _tied(u: Rows, v: np.ndarray, zeros: int, r: int, r2: int,
         return None
     k = np.linspace(0, band.rows.size - 1, 65).astype(np.int64)
     pick = band.rows[k]
-    c = float(np.median(_kernel(u[pick], v[band.lo[pick] + band.widths[k] // 2])))
+    c = float(np.median(kernel(u[pick], v[band.lo[pick] + band.widths[k] // 2])))
     lo = band.lo
     whole = (np.zeros(u.size, dtype=lo.dtype), np.full(u.size, v.size, dtype=lo.dtype))
-    less = int(_cut(u, v, c, True, *whole).sum(dtype=np.int64)) + (zeros if c > 0 else 0)
+    less = int(cut(u, v, c, True, *whole).sum(dtype=np.int64)) + (zeros if c > 0 else 0)
     if less > r:
         return None
-    at_most = int(_cut(u, v, c, False, *whole).sum(dtype=np.int64)) + (zeros if c >= 0 else 0)
+    at_most = int(cut(u, v, c, False, *whole).sum(dtype=np.int64)) + (zeros if c >= 0 else 0)
     return (c, c) if at_most > r2 else None
-
-
-def _select_exact(u: Rows, v: np.ndarray, r: int,
-            enumerate_limit: int = _ENUMERATE) -> tuple[float, float | None]:
-    """The r-th smallest (0-based) of h(i, j) = (u_i + v_j)/(u_i - v_j) over all i, j, for
-    ascending u > 0 and ascending v < 0, and the (r+1)-th when it is found on the way (else None).
-    """
-    p, q = u.size, v.size
-    index = np.int32 if q < 2**31 - 1 else np.int64
-    lo = np.zeros(p, dtype=index)
-    hi = np.full(p, q, dtype=index)
-    rng = np.random.default_rng(20080801)
-    for rounds in range(10**6):
-        w = hi - lo
-        total = int(w.sum())
-        below = int(lo.sum())
-        k = r - below
-        if total <= enumerate_limit or rounds >= 200:
-            active = np.flatnonzero(w)  # only rows with candidates left: no arrays of size p
-            counts = w[active]
-            rows = np.repeat(active.astype(lo.dtype), counts)
-            cols = np.arange(total, dtype=lo.dtype)
-            cols -= np.repeat((np.cumsum(counts) - counts).astype(lo.dtype), counts)
-            cols += np.repeat(lo[active], counts)
-            del active, counts
-            left = u[rows]
-            right = v[cols]
-            del rows, cols
-            vals = left + right  # the kernel (u + v) / (u - v), as _kernel computes it
-            np.subtract(left, right, out=left)
-            vals /= left
-            del left, right
-            if k + 1 < total:
-                vals = np.partition(vals, (k, k + 1))
-                return float(vals[k]), float(vals[k + 1])
-            return float(np.partition(vals, k)[k]), None
-        cw = np.cumsum(w)
-        size = int(min(_SAMPLE, 4 * total))  # a sample larger than the candidates adds nothing
-        draws = rng.integers(0, total, size=size)
-        rows = np.searchsorted(cw, draws, side="right")
-        cols = lo[rows] + (draws - (cw[rows] - w[rows]))
-        del cw
-        sample = np.sort(_kernel(u[rows], v[cols]))
-        f = k / total
-        spread = int(3.5 * np.sqrt(size * f * (1 - f))) + 2
-        t_lo = float(sample[max(0, int(f * size) - spread)])
-        t_hi = float(sample[min(size - 1, int(f * size) + spread)])
-        lt_lo = _cut(u, v, t_lo, True, lo, hi)
-        if r < lt_lo.sum():
-            hi = lt_lo
-            continue
-        le_hi = _cut(u, v, t_hi, False, lo, hi)
-        if r >= le_hi.sum():
-            lo = le_hi
-            continue
-        if int((le_hi - lt_lo).sum()) * 2 <= total:
-            lo, hi = lt_lo, le_hi
-            continue
-        # little progress: many pairs equal a bracket value; take the pivots themselves out
-        le_lo = _cut(u, v, t_lo, False, lt_lo, le_hi)
-        if r < le_lo.sum():
-            return t_lo, None
-        lt_hi = _cut(u, v, t_hi, True, le_lo, le_hi)
-        if r >= lt_hi.sum():
-            return t_hi, None
-        lo, hi = le_lo, lt_hi
-    raise AssertionError("unreachable")  # pragma: no cover
-
-
-def _next_above(u: Rows, v: np.ndarray, t: float) -> float:
-    """Smallest h(i, j) strictly greater than t (inf when there is none)."""
-    c = _cut(u, v, t, False, np.zeros(u.size, dtype=np.int64),
-             np.full(u.size, v.size, dtype=np.int64))
-    rows = np.flatnonzero(c < v.size)
-    if not rows.size:
-        return np.inf
-    return float(_kernel(u[rows], v[c[rows]]).min())
 
 
 def medcouple_sorted(s: np.ndarray, *, enumerate_limit: int = _ENUMERATE) -> float:
@@ -445,7 +287,7 @@ def medcouple_sorted(s: np.ndarray, *, enumerate_limit: int = _ENUMERATE) -> flo
     k = past_zero - first_zero
     # deviations above and below the median, ascending: the lower half as an array for the
     # binary searches, the upper one formed block by block as rows are read
-    u = _Deviations(s[past_zero:], med)
+    u = Deviations(s[past_zero:], med)
     v = s[:first_zero] - med
     p, q = u.size + k, v.size + k
     pairs = p * q
@@ -466,13 +308,13 @@ def medcouple_sorted(s: np.ndarray, *, enumerate_limit: int = _ENUMERATE) -> flo
             return float(sum(vals) / len(vals))
     # pairs with h < 0 (v_j < -u_i, exact) and h == 0 (v_j == -u_i), by blocks of rows
     neg = zero = 0
-    for start in range(0, u.size, _BLOCK):
-        keys = -u[start:start + _BLOCK][::-1]
-        cut = np.searchsorted(v, keys, side="left")
-        neg += int(cut.sum())
-        hit = np.flatnonzero(cut < v.size)
-        hit = hit[v[cut[hit]] == keys[hit]]
-        zero += int((np.searchsorted(v, keys[hit], side="right") - cut[hit]).sum())
+    for start in range(0, u.size, BLOCK):
+        keys = -u[start:start + BLOCK][::-1]
+        below = np.searchsorted(v, keys, side="left")
+        neg += int(below.sum())
+        hit = np.flatnonzero(below < v.size)
+        hit = hit[v[below[hit]] == keys[hit]]
+        zero += int((np.searchsorted(v, keys[hit], side="right") - below[hit]).sum())
 
     def locate(r: int) -> tuple[float, int | None]:
         """A constant value for global rank r, or None and the rank among interior pairs."""
@@ -490,7 +332,7 @@ def medcouple_sorted(s: np.ndarray, *, enumerate_limit: int = _ENUMERATE) -> flo
 
     def value(r: int) -> float:
         const, ir = locate(r)
-        return const if ir is None else _select_exact(u, v, ir, enumerate_limit)[0]
+        return const if ir is None else select_exact(u, v, ir, enumerate_limit)[0]
 
     if pairs % 2:
         return value(pairs // 2)
@@ -498,12 +340,12 @@ def medcouple_sorted(s: np.ndarray, *, enumerate_limit: int = _ENUMERATE) -> flo
     if ir1 is not None and ir2 == ir1 + 1:
         # both middle values are interior and adjacent: the second is the first again when
         # that value repeats, else the least kernel value above it
-        first, second = _select_exact(u, v, ir1, enumerate_limit)
+        first, second = select_exact(u, v, ir1, enumerate_limit)
         if second is not None:
             return float((first + second) / 2)
         whole = (np.zeros(u.size, dtype=np.int64), np.full(u.size, v.size, dtype=np.int64))
-        at_most = int(_cut(u, v, first, False, *whole).sum())
-        second = first if at_most > ir1 + 1 else _next_above(u, v, first)
+        at_most = int(cut(u, v, first, False, *whole).sum())
+        second = first if at_most > ir1 + 1 else next_above(u, v, first)
     else:
         first, second = value(pairs // 2 - 1), value(pairs // 2)
     return float((first + second) / 2)
