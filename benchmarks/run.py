@@ -87,6 +87,24 @@ def bench_full(sizes: list[int], rng: np.random.Generator) -> None:
         t = timed(lambda x=x: full_screen(x), reps)
         report("full screen", n, t, base, "numpy.sort", "<= 3x slower (1e6+)",
                None if n < 10**6 else t / base <= 3)
+        if n >= 10**6:
+            breakdown(x, base, reps)
+
+
+def breakdown(x: np.ndarray, base: float, reps: int) -> None:
+    """Where the full screen's time goes, each part in sorts of the same array."""
+    s = np.sort(x)
+    m = normal_quantiles(s.size)
+    mom = location.moments(s, ascending=True)
+    parts = {
+        "Q-Q line and r": lambda: fit_line(m, s),
+        "medcouple, adjusted fences": lambda: rules.sorted_adjusted_fences(s, 1.5),
+        "z-scores of every row (both)": lambda: ((x - 1.0) / 2.0, (x - 1.0) / 2.0),
+        "moments": lambda: location.moments(s, ascending=True),
+        "normality tests (A², K²)": lambda: normality_sorted(s, ppcc=0.99, m=mom),
+    }
+    line = ", ".join(f"{name} {timed(fn, reps) / base:.1f}" for name, fn in parts.items())
+    print(f"  in sorts: sort 1.0, {line}")
 
 
 def pairwise_medcouple(s: np.ndarray) -> float:

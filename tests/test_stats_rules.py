@@ -525,6 +525,14 @@ def test_max_outliers_that_is_not_a_whole_number_is_refused(m):
         strayline.flag(X, "gesd", max_outliers=m)
 
 
+def test_a_whole_number_written_as_a_float_is_taken_by_both_entry_points():
+    # 2.0 reads as 2 in gesd() as in flag(), as a number read back from a file may come
+    a, b = strayline.gesd(X, 2.0), strayline.gesd(X, 2)
+    np.testing.assert_array_equal(a.statistics, b.statistics)
+    np.testing.assert_array_equal(strayline.flag(X, "gesd", max_outliers=np.float64(2.0)).mask,
+                                  b.mask)
+
+
 def test_default_gesd_bound_needs_twelve_values():
     # flag's default max_outliers is 10, which needs n >= 12
     with pytest.raises(ValueError, match=r"between 1 and n - 2 = 6 for 8 values, got 10"):

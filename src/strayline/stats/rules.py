@@ -344,12 +344,18 @@ def gesd(x: Any, max_outliers: int, alpha: float = 0.05) -> GESD:
                 mask=like_input(mask, col), removed=removed, alpha=alpha)
 
 
+def _whole(m: Any) -> int:
+    """*m* as an int when it is a whole number (2 or 2.0), else TypeError."""
+    if isinstance(m, (float, np.floating)) and float(m).is_integer():
+        m = int(m)
+    if isinstance(m, (bool, np.bool_)) or not isinstance(m, (int, np.integer)):
+        raise TypeError(f"max_outliers must be a whole number, got {m!r}")
+    return int(m)
+
+
 def _check_max_outliers(max_outliers: Any, n: int) -> int:
     require(n, 3, "the generalized ESD test")
-    if isinstance(max_outliers, (bool, np.bool_)) or not isinstance(
-            max_outliers, (int, np.integer)):
-        raise TypeError(f"max_outliers must be a whole number, got {max_outliers!r}")
-    r = int(max_outliers)
+    r = _whole(max_outliers)
     if not 1 <= r <= n - 2:
         raise ValueError(f"max_outliers must be between 1 and n - 2 = {n - 2} for "
                          f"{n} values, got {r}")
@@ -406,11 +412,7 @@ def check_rule(rule: str, params: dict[str, Any]) -> dict[str, Any]:
     if "alpha" in out:
         out["alpha"] = check_alpha(out["alpha"])
     if "max_outliers" in out:
-        m = out["max_outliers"]
-        if isinstance(m, float) and m.is_integer():
-            m = int(m)
-        if isinstance(m, (bool, np.bool_)) or not isinstance(m, (int, np.integer)):
-            raise TypeError(f"max_outliers must be a whole number, got {m!r}")
+        m = _whole(out["max_outliers"])
         if m < 1:
             raise ValueError(f"max_outliers must be at least 1, got {m}")
         out["max_outliers"] = int(m)
