@@ -183,6 +183,7 @@ class Screen:
         self._comparisons: dict[Hashable, tuple[TransformComparison, ...]] = {}
         self._qq: dict[tuple[Hashable, ev.Settings], QQ] = {}
         self._states: dict[Hashable, tuple[int, np.ndarray]] = {}
+        self._counts: dict[Hashable, tuple[int, dict[str, int]]] = {}
         self._listeners: list[Callable[[], None]] = []
         self.version = 0
 
@@ -386,11 +387,16 @@ class Screen:
         return pd.Series(self.mask_array().copy(), index=self._df.index, name="suspect")
 
     def counts(self, column: Hashable | None = None) -> dict[str, int]:
-        st = self.states(column)
-        tally = np.bincount(st, minlength=5)
-        return {"rows": self._n, "flagged": int(tally[FLAGGED]), "marked": int(tally[MARKED]),
-                "kept": int(tally[KEPT]), "missing": int(tally[MISSING]),
-                "mask": int(self.mask_array().sum())}
+        c = self._col(column)
+        cached = self._counts.get(c)
+        if cached is not None and cached[0] == self.version:
+            return dict(cached[1])
+        tally = np.bincount(self.states(c), minlength=5)
+        out = {"rows": self._n, "flagged": int(tally[FLAGGED]), "marked": int(tally[MARKED]),
+               "kept": int(tally[KEPT]), "missing": int(tally[MISSING]),
+               "mask": int(np.count_nonzero(self.mask_array()))}
+        self._counts[c] = (self.version, out)
+        return dict(out)
 
     def on_change(self, callback: Callable[[], None], remove: bool = False) -> None:
         """Call *callback* (no arguments) after every decision, undo, redo or settings change."""
@@ -779,11 +785,15 @@ class Screen:
             bins = int(np.clip(np.ceil(span / width) if width > 0 else 10, 5, max_bins))
             edges = np.linspace(o[0] / 2, o[-1] / 2, bins + 1) * 2
             edges[0], edges[-1] = o[0], o[-1]
-        counts = np.histogram(o, edges)[0]
+        # the values are sorted: each bin's count is the difference of two binary searches
+        # ([e_i, e_i+1), the last bin closed), as numpy.histogram counts them
+        at = np.searchsorted(o, edges, "left")
+        at[-1] = o.size
+        counts = np.diff(at)
         e = self.evaluation(c)
         marked = e.prepared.values[self._marked[c] & ~np.isnan(e.prepared.values)]
         marked_counts = np.histogram(marked, edges)[0]
-        m = moments(o) if o.size else None
+        m = moments(o, ascending=True) if o.size else None
         grid = np.linspace(edges[0] / 2, edges[-1] / 2, 121) * 2  # in halves, as the edges
         if m is not None and m.sd > 0:
             width = edges[1] - edges[0]

@@ -22,7 +22,7 @@ from ..stats.rules import RULES
 from ..stats.transform import TRANSFORMS
 from . import figures as F
 from .table import RowTable
-from .thinning import thin
+from .thinning import pixel_steps, thin
 from .writeback import write_mask
 
 CAUTION = ("A flag is a prompt to look, not a reason to delete: record why a row is set aside, "
@@ -64,6 +64,8 @@ class Panel(W.VBox):
         self._max_points = max_points
         self._brushed = np.zeros(len(screen.frame), dtype=bool)  # rows the last stroke covered
         self._drawn_ranks = np.empty(0, dtype=np.int64)
+        self._steps_for: Any = None  # the Q–Q coordinates that self._steps thinned
+        self._steps = np.empty(0, dtype=np.int64)
         self._page_positions = np.empty(0, dtype=np.int64)
         self._sort_cache: dict[tuple[Any, ...], np.ndarray] = {}
         self.last_error = ""
@@ -425,8 +427,14 @@ class Panel(W.VBox):
         b = s.evaluation().bounds
         special = st_sorted != PLAIN
         if s.settings().group is None and np.isfinite(b.lower):
-            special |= (values < b.lower) | (values > b.upper)
-        ranks = thin(v.theoretical, values, special, budget=self._max_points)
+            # the values are sorted: those outside the bounds are the two ends
+            special[:int(np.searchsorted(values, b.lower, "left"))] = True
+            special[int(np.searchsorted(values, b.upper, "right")):] = True
+        if self._steps_for is not v and values.size > self._max_points:
+            # one point per pixel of the curve: it changes only with the values
+            self._steps_for, self._steps = v, pixel_steps(v.theoretical, values, 560, 380)
+        ranks = thin(v.theoretical, values, special, budget=self._max_points,
+                     middle=self._steps)
         self._drawn_ranks = ranks
         drawn_states = st_sorted[ranks]
         for mark, code in ((self.qq.plain, PLAIN), (self.qq.flagged, FLAGGED),

@@ -30,15 +30,18 @@ def pixel_steps(x: np.ndarray, y: np.ndarray, width: float, height: float,
 
 def thin(theoretical: np.ndarray, ordered: np.ndarray, special: np.ndarray, *,
          width: float = 560, height: float = 380, tail: int = 40,
-         budget: int = 3000) -> np.ndarray:
+         budget: int = 3000, middle: np.ndarray | None = None) -> np.ndarray:
     """Ranks to draw, ascending: the *tail* lowest and highest, every *special* rank (flagged,
     marked, kept, outside the fences) while they fit in *budget*, else those thinned at four
-    points per pixel, and the rest at about one point per pixel."""
+    points per pixel, and the rest at about one point per pixel (*middle*: those
+    ``pixel_steps(theoretical, ordered, width, height)`` when the caller keeps them, as they
+    change only with the values)."""
     n = ordered.size
     if n <= budget:
         return np.arange(n)
     ends = np.concatenate([np.arange(min(tail, n)), np.arange(max(n - tail, 0), n)])
-    middle = pixel_steps(theoretical, ordered, width, height)
+    if middle is None:
+        middle = pixel_steps(theoretical, ordered, width, height)
     chosen = np.flatnonzero(special)
     if chosen.size > budget // 2:
         fine = pixel_steps(theoretical[chosen], ordered[chosen], width, height, resolution=4)
