@@ -152,12 +152,17 @@ def scale_exponent(values: np.ndarray, *, ascending: bool = False) -> int:
     if values.size == 0:
         return 0
     if ascending:
-        biggest = max(-float(values[0]), float(values[-1]))
-    else:
-        biggest = max(-float(np.min(values)), float(np.max(values)))
-    if biggest == 0.0 or not np.isfinite(biggest):
+        return exponent_of(max(-float(values[0]), float(values[-1])))
+    return exponent_of(max(-float(np.min(values)), float(np.max(values))))
+
+
+def exponent_of(biggest: float, limit: int = 0) -> int:
+    """The power of two that brings the magnitude *biggest* near 1 (0 for 0 or non-finite);
+    with a *limit*, 0 as well unless it lies beyond 2**±limit (no rescaling is needed)."""
+    if not 0.0 < biggest < np.inf:
         return 0
-    return int(np.frexp(biggest)[1])
+    e = int(np.frexp(biggest)[1])
+    return 0 if limit and -limit < e < limit else e
 
 
 def rescaled(values: np.ndarray, limit: int = 500, *,

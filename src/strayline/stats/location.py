@@ -6,6 +6,8 @@ from dataclasses import dataclass
 
 import numpy as np
 
+from ._input import exponent_of
+
 _BLOCK = 1 << 16  # values per block of the sums: the temporaries stay in cache
 
 #: 1 / Phi^{-1}(3/4): makes the MAD a consistent estimate of the SD for normal data.
@@ -86,14 +88,6 @@ def sorted_mad(s: np.ndarray, center: float) -> float:
     return (kth(n // 2 - 1) + kth(n // 2)) / 2
 
 
-def _exponent(biggest: float) -> int:
-    """The power of two that brings *biggest* near 1 when it lies beyond 2**±240, else 0."""
-    if not 0.0 < biggest < np.inf:
-        return 0
-    e = int(np.frexp(biggest)[1])
-    return e if not -240 < e < 240 else 0
-
-
 @dataclass(frozen=True)
 class Moments:
     """Sample moments of a set of values.
@@ -127,10 +121,10 @@ def moments(values: np.ndarray, *, ascending: bool = False) -> Moments:
     # float limits, keep the fourth powers finite and normal from 1e-308 to 1e308
     lo, hi = (float(values[0]), float(values[-1])) if ascending else (
         float(values.min()), float(values.max()))
-    e1 = _exponent(max(-lo, hi))
+    e1 = exponent_of(max(-lo, hi), 240)
     x = np.ldexp(values, -e1) if e1 else values
     mean_s = float(x.mean())
-    e2 = _exponent(max(mean_s - np.ldexp(lo, -e1), np.ldexp(hi, -e1) - mean_s))
+    e2 = exponent_of(max(mean_s - np.ldexp(lo, -e1), np.ldexp(hi, -e1) - mean_s), 240)
     m2 = m3 = m4 = 0.0
     for start in range(0, n, _BLOCK):
         d = x[start:start + _BLOCK] - mean_s

@@ -22,7 +22,7 @@ from ..stats.rules import RULES
 from ..stats.transform import TRANSFORMS
 from . import figures as F
 from .table import RowTable
-from .thinning import pixel_steps, thin
+from .thinning import HEIGHT, WIDTH, pixel_steps, thin
 from .writeback import write_mask
 
 CAUTION = ("A flag is a prompt to look, not a reason to delete: record why a row is set aside, "
@@ -432,7 +432,7 @@ class Panel(W.VBox):
             special[int(np.searchsorted(values, b.upper, "right")):] = True
         if self._steps_for is not v and values.size > self._max_points:
             # one point per pixel of the curve: it changes only with the values
-            self._steps_for, self._steps = v, pixel_steps(v.theoretical, values, 560, 380)
+            self._steps_for, self._steps = v, pixel_steps(v.theoretical, values, WIDTH, HEIGHT)
         ranks = thin(v.theoretical, values, special, budget=self._max_points,
                      middle=self._steps)
         self._drawn_ranks = ranks

@@ -28,8 +28,12 @@ def pixel_steps(x: np.ndarray, y: np.ndarray, width: float, height: float,
     return keep
 
 
+#: the plot area thinned for, in pixels
+WIDTH, HEIGHT = 560, 380
+
+
 def thin(theoretical: np.ndarray, ordered: np.ndarray, special: np.ndarray, *,
-         width: float = 560, height: float = 380, tail: int = 40,
+         width: float = WIDTH, height: float = HEIGHT, tail: int = 40,
          budget: int = 3000, middle: np.ndarray | None = None) -> np.ndarray:
     """Ranks to draw, ascending: the *tail* lowest and highest, every *special* rank (flagged,
     marked, kept, outside the fences) while they fit in *budget*, else those thinned at four
